@@ -1,0 +1,14 @@
+// The navigation of each role. Areas appear here as they are built (no dead links).
+import type { Role } from './domain/scopes';
+
+export interface NavItem {
+	href: string;
+	label: string;
+	roles: readonly Role[];
+}
+
+export const NAV: NavItem[] = [{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] }];
+
+export function navFor(role: Role | null): NavItem[] {
+	return role ? NAV.filter((i) => i.roles.includes(role)) : [];
+}

@@ -1,0 +1,18 @@
+// Reads the caller's credentials once per request: `Authorization: Bearer …` (personal API token).
+import type { RequestEvent } from '@sveltejs/kit';
+import { getDb } from '../db';
+import type { Principal } from './principal';
+import { principalFromApiToken } from './tokens';
+
+export type AuthResult = { principal: Principal | null; badCredentials: boolean };
+
+export async function authenticate(event: RequestEvent): Promise<AuthResult> {
+	const header = event.request.headers.get('authorization');
+	if (header) {
+		const m = /^Bearer\s+(\S+)\s*$/i.exec(header);
+		if (!m) return { principal: null, badCredentials: true };
+		const principal = await principalFromApiToken(getDb(), m[1]);
+		return { principal, badCredentials: principal === null };
+	}
+	return { principal: null, badCredentials: false };
+}

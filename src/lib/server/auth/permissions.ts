@@ -1,0 +1,36 @@
+// The one route-permission table. Every SvelteKit route id (pages and /api/v1 endpoints) has an
+// entry per method it answers; hooks.server.ts enforces it before any route code runs, and
+// tests/api/authz-matrix.test.ts walks it against every route file, so a new route cannot skip it.
+//
+// Pages: GET is the page view (its load), POST its form actions. District-only-own-data rules are
+// enforced in the queries (a district principal always filters by its own district).
+import type { Role, Scope } from '$lib/domain/scopes';
+
+export type Access = { kind: 'public' } | { kind: 'signed-in' } | { kind: 'scope'; scope: Scope } | { kind: 'roles'; roles: Role[] };
+
+export type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE';
+export type RouteRules = Partial<Record<Method, Access>>;
+
+const publicAccess: Access = { kind: 'public' };
+const signedIn: Access = { kind: 'signed-in' };
+const scope = (s: Scope): Access => ({ kind: 'scope', scope: s });
+const roles = (...r: Role[]): Access => ({ kind: 'roles', roles: r });
+
+export const PERMISSIONS: Record<string, RouteRules> = {
+	// --- pages ---
+	'/': { GET: publicAccess },
+
+	// --- API ---
+	'/api/v1/health': { GET: publicAccess },
+	'/api/v1/me': { GET: signedIn }
+};
+
+// Exported helpers so the matrix test and the nav share the same vocabulary.
+export const access = { public: publicAccess, signedIn, scope, roles };
+
+export function ruleFor(routeId: string, method: string): Access | undefined {
+	const rules = PERMISSIONS[routeId];
+	if (!rules) return undefined;
+	const m = (method === 'HEAD' ? 'GET' : method) as Method;
+	return rules[m];
+}

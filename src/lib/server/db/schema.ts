@@ -1,0 +1,141 @@
+// The one `Database` interface: every table the app reads or writes, as Kysely sees it.
+// tests/api/db-schema.test.ts checks it against information_schema of the migrated database.
+// Later areas add their tables here (keep one interface; group tables by area with comments).
+import type { ColumnType, Generated, Insertable, Selectable, Updateable } from 'kysely';
+
+/** timestamptz: read as Date, written as Date or ISO string. */
+export type Timestamp = ColumnType<Date, Date | string | undefined, Date | string>;
+/** numeric: node-postgres returns a string to keep precision. */
+export type Numeric = ColumnType<string, number | string, number | string>;
+/** date: read as 'YYYY-MM-DD' (the pool sets a parser), written as string. */
+export type DateOnly = ColumnType<string, string, string>;
+
+export type Role = 'admin' | 'manager' | 'district' | 'researcher';
+
+// --- reference data and configuration -------------------------------------------------------
+export interface SettingsTable {
+	key: string;
+	value: ColumnType<unknown, string, string>;
+	updated_at: Generated<Date>;
+}
+
+export interface CountiesTable {
+	fips: string;
+	state_fips: string;
+	name: string;
+}
+
+export interface PracticesTable {
+	code: string;
+	name: string;
+	category: 'in_field' | 'edge_of_field';
+	credited_basis: 'extent_acres' | 'drainage_area_acres';
+	unit: string;
+	lifespan_years: number;
+	source_note: string;
+}
+
+// --- districts and people ---------------------------------------------------------------------
+export interface DistrictContact {
+	name: string;
+	email: string;
+	phone?: string;
+	title?: string;
+}
+
+export interface DistrictsTable {
+	id: Generated<number>;
+	code: string;
+	name: string;
+	region: string;
+	contacts: ColumnType<DistrictContact[], string | undefined, string>;
+	notify_on_rejected: Generated<boolean>;
+	created_at: Generated<Date>;
+}
+
+export interface DistrictCountiesTable {
+	district_id: number;
+	county_fips: string;
+}
+
+export interface UsersTable {
+	id: Generated<number>;
+	email: string;
+	name: string;
+	role: Role;
+	district_id: number | null;
+	password_hash: string | null;
+	active: Generated<boolean>;
+	created_at: Generated<Date>;
+}
+
+export interface ApiTokensTable {
+	id: Generated<number>;
+	user_id: number;
+	name: string;
+	token_hash: string;
+	display_prefix: string;
+	scopes: string[];
+	expires_at: Timestamp | null;
+	last_used_at: Timestamp | null;
+	revoked_at: Timestamp | null;
+	created_at: Generated<Date>;
+}
+
+// --- practice records ---------------------------------------------------------------------------
+export interface RecordsTable {
+	id: Generated<string>;
+	district_id: number;
+	local_id: string;
+	version: number;
+	practice_code: string;
+	county_fips: string;
+	installed_on: DateOnly;
+	status: 'installed' | 'withdrawn';
+	withdrawn_on: DateOnly | null;
+	extent_acres: Numeric | null;
+	drainage_area_acres: Numeric | null;
+	field_id: string | null;
+	operation_id: string | null;
+	huc12: string | null;
+	cost_total_usd: Numeric | null;
+	cost_share_usd: Numeric | null;
+	funding_program: string | null;
+	data: ColumnType<Record<string, unknown>, string, string>;
+	content_hash: string;
+	created_at: Generated<Date>;
+	updated_at: Generated<Date>;
+}
+
+export interface RecordVersionsTable {
+	record_id: string;
+	version: number;
+	data: ColumnType<Record<string, unknown>, string, string>;
+	changed_fields: string[];
+	batch_id: string | null;
+	actor: string;
+	created_at: Generated<Date>;
+}
+
+export interface Database {
+	settings: SettingsTable;
+	counties: CountiesTable;
+	practices: PracticesTable;
+	districts: DistrictsTable;
+	district_counties: DistrictCountiesTable;
+	users: UsersTable;
+	api_tokens: ApiTokensTable;
+	records: RecordsTable;
+	record_versions: RecordVersionsTable;
+}
+
+export type District = Selectable<DistrictsTable>;
+export type NewDistrict = Insertable<DistrictsTable>;
+export type User = Selectable<UsersTable>;
+export type NewUser = Insertable<UsersTable>;
+export type UserUpdate = Updateable<UsersTable>;
+export type ApiToken = Selectable<ApiTokensTable>;
+export type PracticeRecord = Selectable<RecordsTable>;
+export type RecordVersion = Selectable<RecordVersionsTable>;
+export type Practice = Selectable<PracticesTable>;
+export type County = Selectable<CountiesTable>;

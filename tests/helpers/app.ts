@@ -1,0 +1,45 @@
+// Loads the built app (build/handler.js) for supertest and the browser tests.
+import http from 'node:http';
+import type { AddressInfo } from 'node:net';
+import path from 'node:path';
+import { pathToFileURL } from 'node:url';
+
+export const ROOT = path.resolve(import.meta.dirname, '..', '..');
+
+type Handler = (req: http.IncomingMessage, res: http.ServerResponse) => void;
+let handlerPromise: Promise<Handler> | undefined;
+
+/** The adapter-node request handler of the built app (needs DATABASE_URL set first). */
+export function appHandler(): Promise<Handler> {
+	process.env.NODE_ENV ??= 'test';
+	process.env.RUNNEL_ROOT ??= ROOT;
+	process.env.ORIGIN ??= 'http://127.0.0.1:3000';
+	handlerPromise ??= import(pathToFileURL(path.join(ROOT, 'build', 'handler.js')).href).then((m) => m.handler as Handler);
+	return handlerPromise;
+}
+
+/** Starts the built app on a free loopback port; returns its origin and a close function. */
+export async function startApp(): Promise<{ origin: string; close: () => Promise<void> }> {
+	const handler = await appHandler();
+	const server = http.createServer(handler);
+	await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
+	const origin = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+	return {
+		origin,
+		close: () =>
+			new Promise<void>((r) => {
+				server.closeAllConnections();
+				server.close(() => r());
+			})
+	};
+}
+
+export const DEMO_TOKENS = {
+	admin: 'rnl_demo_admin',
+	manager: 'rnl_demo_manager',
+	district: 'rnl_demo_district',
+	district2: 'rnl_demo_district2',
+	researcher: 'rnl_demo_researcher'
+} as const;
+
+export const bearer = (token: string) => ({ Authorization: `Bearer ${token}` });
