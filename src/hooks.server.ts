@@ -8,6 +8,13 @@ import { decide } from '$lib/server/auth/authorize';
 import { ruleFor } from '$lib/server/auth/permissions';
 import { ApiError, PROBLEM_CONTENT_TYPE, problemResponse, STATUS_TITLES } from '$lib/server/http/problem';
 import { logger } from '$lib/server/log';
+import { startServices } from '$lib/server/services';
+import type { ServerInit } from '@sveltejs/kit';
+
+/** Runs once when the server starts: background services (mail sender, queue worker…). */
+export const init: ServerInit = async () => {
+	await startServices();
+};
 
 const isApi = (path: string) => path.startsWith('/api/');
 

@@ -117,6 +117,22 @@ export interface RecordVersionsTable {
 	created_at: Generated<Date>;
 }
 
+// --- mail -----------------------------------------------------------------------------------------
+export interface MailMessagesTable {
+	id: Generated<string>;
+	kind: string;
+	to_addresses: string[];
+	subject: string;
+	text_body: string;
+	html_body: string | null;
+	status: Generated<'queued' | 'sent' | 'failed'>;
+	attempts: Generated<number>;
+	last_error: string | null;
+	next_attempt_at: Generated<Date>;
+	sent_at: Timestamp | null;
+	created_at: Generated<Date>;
+}
+
 export interface Database {
 	settings: SettingsTable;
 	counties: CountiesTable;
@@ -127,6 +143,7 @@ export interface Database {
 	api_tokens: ApiTokensTable;
 	records: RecordsTable;
 	record_versions: RecordVersionsTable;
+	mail_messages: MailMessagesTable;
 }
 
 export type District = Selectable<DistrictsTable>;

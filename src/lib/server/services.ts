@@ -1,0 +1,33 @@
+// Background services that run inside the app process: started once by the `init` hook,
+// stopped on adapter-node's `sveltekit:shutdown` event. Each area registers its service here.
+import { logger } from './log';
+
+type Service = { name: string; start: () => Promise<void> | void; stop: () => Promise<void> | void };
+
+const services: Service[] = [];
+let started = false;
+
+export async function startServices(): Promise<void> {
+	if (started || process.env.RUNNEL_SERVICES === '0') return;
+	started = true;
+	for (const s of services) {
+		try {
+			await s.start();
+		} catch (e) {
+			logger.error({ err: e, service: s.name }, 'service failed to start');
+		}
+	}
+	process.once('sveltekit:shutdown' as NodeJS.Signals, () => void stopServices());
+}
+
+export async function stopServices(): Promise<void> {
+	if (!started) return;
+	started = false;
+	for (const s of [...services].reverse()) {
+		try {
+			await s.stop();
+		} catch (e) {
+			logger.error({ err: e, service: s.name }, 'service failed to stop');
+		}
+	}
+}
