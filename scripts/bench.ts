@@ -7,9 +7,7 @@ import { ROOT } from './lib/env';
 import { startThrowawayCluster } from './lib/postgres';
 
 const dir = path.join(ROOT, 'scripts', 'bench');
-const available = (existsSync(dir) ? readdirSync(dir) : [])
-	.filter((f) => f.endsWith('.ts'))
-	.map((f) => f.replace(/\.ts$/, ''));
+const available = (existsSync(dir) ? readdirSync(dir) : []).filter((f) => f.endsWith('.ts')).map((f) => f.replace(/\.ts$/, ''));
 const names = process.argv.slice(2).filter((a) => !a.startsWith('-'));
 if (names.length === 0 || names.some((n) => !existsSync(path.join(dir, `${n}.ts`)))) {
 	console.error(`usage: npm run bench -- NAME…   (available: ${available.join(', ') || 'none yet'})`);
