@@ -7,7 +7,11 @@ export interface NavItem {
 	roles: readonly Role[];
 }
 
-export const NAV: NavItem[] = [{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] }];
+export const NAV: NavItem[] = [
+	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
+	{ href: '/admin/oauth-clients', label: 'OAuth clients', roles: ['admin'] },
+	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] }
+];
 
 export function navFor(role: Role | null): NavItem[] {
 	return role ? NAV.filter((i) => i.roles.includes(role)) : [];

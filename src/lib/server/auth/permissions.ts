@@ -19,10 +19,16 @@ const roles = (...r: Role[]): Access => ({ kind: 'roles', roles: r });
 export const PERMISSIONS: Record<string, RouteRules> = {
 	// --- pages ---
 	'/': { GET: publicAccess },
+	'/admin/outbox': { GET: roles('admin') },
+	'/admin/outbox/[id]': { GET: roles('admin'), POST: roles('admin') },
+	'/admin/oauth-clients': { GET: roles('admin'), POST: roles('admin') },
+	'/.well-known/jwks.json': { GET: publicAccess },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
-	'/api/v1/me': { GET: signedIn }
+	'/api/v1/me': { GET: signedIn },
+	// OAuth client credentials: the client authenticates inside the request (RFC 6749 §2.3.1).
+	'/api/v1/oauth/token': { POST: publicAccess }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
