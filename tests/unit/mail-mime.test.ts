@@ -1,10 +1,10 @@
 // The fake SMTP server's MIME reader, checked on messages nodemailer itself composes (the sender's
 // real output) and on the worked examples of the RFCs it implements.
-import nodemailer from 'nodemailer';
+import nodemailer, { type SendMailOptions } from 'nodemailer';
 import { describe, expect, it } from 'vitest';
 import { decodeEncodedWords, decodeQuotedPrintable, parseHeaderParams, parseMail } from '../../src/lib/server/mail/mime';
 
-async function compose(mail: nodemailer.SendMailOptions): Promise<Buffer> {
+async function compose(mail: SendMailOptions): Promise<Buffer> {
 	const t = nodemailer.createTransport({ streamTransport: true, buffer: true, newline: 'windows' });
 	const info = await t.sendMail(mail);
 	return info.message as Buffer;

@@ -36,23 +36,11 @@ import { logger } from './log';
 
 export const SIGNING_ALG = 'ES256';
 
-/** How long a process keeps using the active key it loaded before looking again (rotation by another process). */
-const ACTIVE_CACHE_MS = 60_000;
-/** How long a process trusts a verification key's status (retirement by another process). */
-const VERIFY_CACHE_MS = 30_000;
-
-interface ActiveKey {
-	kid: string;
-	privateKey: CryptoKey;
-}
-
-let active: { key: ActiveKey; loadedAt: number } | null = null;
-const verifyKeys = new Map<string, { key: CryptoKey | null; checkedAt: number }>();
-
-function forgetCachedKeys(): void {
-	active = null;
-	verifyKeys.clear();
-}
+// Imported keys are kept per kid (importing is the costly part); which key is active, and whether a
+// key is retired, is read from the database on every use, so a rotation or retirement by any process
+// takes effect at once everywhere (one indexed lookup; tokens are issued every few minutes per client).
+const privateKeys = new Map<string, CryptoKey>();
+const publicKeys = new Map<string, CryptoKey>();
 
 // --- private key at rest ------------------------------------------------------------------------
 function keyEncryptionKey(secret: string): Uint8Array {
@@ -94,8 +82,11 @@ async function newKeyRow(): Promise<{ kid: string; publicJwk: JWK; sealed: strin
 const LOCK = sql`select pg_advisory_xact_lock(hashtext('runnel.signing_keys'))`;
 
 /** The active key, generated on first use. */
-async function loadActiveKey(db: Kysely<Database>): Promise<ActiveKey> {
-	if (active && Date.now() - active.loadedAt < ACTIVE_CACHE_MS) return active.key;
+async function loadActiveKey(db: Kysely<Database>): Promise<{ kid: string; privateKey: CryptoKey }> {
+	const current = await db.selectFrom('signing_keys').select('kid').where('status', '=', 'active').executeTakeFirst();
+	const cached = current && privateKeys.get(current.kid);
+	if (current && cached) return { kid: current.kid, privateKey: cached };
+
 	let row = await db.selectFrom('signing_keys').selectAll().where('status', '=', 'active').executeTakeFirst();
 	if (!row) {
 		row = await db.transaction().execute(async (tx) => {
@@ -120,9 +111,9 @@ async function loadActiveKey(db: Kysely<Database>): Promise<ActiveKey> {
 			.where('kid', '=', row.kid)
 			.execute();
 	}
-	const key: ActiveKey = { kid: row.kid, privateKey: (await importJWK(jwk, SIGNING_ALG)) as CryptoKey };
-	active = { key, loadedAt: Date.now() };
-	return key;
+	const privateKey = (await importJWK(jwk, SIGNING_ALG)) as CryptoKey;
+	privateKeys.set(row.kid, privateKey);
+	return { kid: row.kid, privateKey };
 }
 
 /** The `kid` of the key that signs now (generating the first key if there is none). */
@@ -189,7 +180,6 @@ export async function rotateSigningKey(db: Kysely<Database> = getDb()): Promise<
 			.execute();
 		return old?.kid ?? null;
 	});
-	forgetCachedKeys();
 	logger.info({ kid: k.kid, previousKid }, 'rotated the signing key');
 	return { kid: k.kid, previousKid };
 }
@@ -213,7 +203,6 @@ export async function retireSigningKey(kid: string, opts: { force?: boolean } = 
 		.set({ status: 'retired', retired_at: sql`now()` as unknown as Date })
 		.where('kid', '=', kid)
 		.execute();
-	forgetCachedKeys();
 	logger.info({ kid }, 'retired a signing key');
 }
 
@@ -255,16 +244,16 @@ export async function signJwt(
 	return jwt.sign(key.privateKey);
 }
 
-/** The public key for a `kid`, or null when unknown or retired (cached briefly). */
+/** The public key for a `kid`, or null when unknown or retired. */
 async function verificationKey(db: Kysely<Database>, kid: string | undefined): Promise<CryptoKey | null> {
 	if (!kid || kid.length > 100) return null;
-	const cached = verifyKeys.get(kid);
-	if (cached && Date.now() - cached.checkedAt < VERIFY_CACHE_MS) return cached.key;
 	const row = await db.selectFrom('signing_keys').select(['kid', 'public_jwk', 'status']).where('kid', '=', kid).executeTakeFirst();
-	const key =
-		row && row.status !== 'retired' ? ((await importJWK(publicOnly(row.public_jwk as JWK, row.kid), SIGNING_ALG)) as CryptoKey) : null;
-	if (verifyKeys.size > 100) verifyKeys.clear();
-	verifyKeys.set(kid, { key, checkedAt: Date.now() });
+	if (!row || row.status === 'retired') return null;
+	let key = publicKeys.get(kid);
+	if (!key) {
+		key = (await importJWK(publicOnly(row.public_jwk as JWK, row.kid), SIGNING_ALG)) as CryptoKey;
+		publicKeys.set(kid, key);
+	}
 	return key;
 }
 
