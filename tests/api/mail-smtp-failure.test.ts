@@ -2,20 +2,18 @@
 // retried with backoff, and ends `failed` after the last attempt; a permanent refusal (5yz) fails at
 // once. Runs in its own database (so no other test's mail is touched) with SMTP_URL pointing at a
 // port nobody listens on.
-import { spawnSync } from 'node:child_process';
 import net from 'node:net';
-import pg from 'pg';
 import { SMTPServer } from 'smtp-server';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ROOT } from '../helpers/app';
+import { createOwnDatabase } from '../helpers/db';
 
 type Sender = typeof import('$lib/server/mail/sender');
 type Db = typeof import('$lib/server/db');
 type Queue = typeof import('$lib/server/mail/queue');
 type Transport = typeof import('$lib/server/mail/transport');
 
-const dbName = `runnel_mailfail_${process.pid}`;
 const mainUrl = process.env.DATABASE_URL!;
+let own: Awaited<ReturnType<typeof createOwnDatabase>>;
 let sender: Sender;
 let dbm: Db;
 let queue: Queue;
@@ -29,23 +27,9 @@ async function closedPort(): Promise<number> {
 	return port;
 }
 
-async function admin<T>(fn: (c: pg.Client) => Promise<T>): Promise<T> {
-	const c = new pg.Client({ connectionString: mainUrl });
-	await c.connect();
-	try {
-		return await fn(c);
-	} finally {
-		await c.end();
-	}
-}
-
 beforeAll(async () => {
-	await admin((c) => c.query(`create database ${dbName}`));
-	const url = new URL(mainUrl);
-	url.pathname = `/${dbName}`;
-	process.env.DATABASE_URL = url.href;
-	const r = spawnSync(process.execPath, ['--import', 'tsx', 'scripts/migrate.ts'], { cwd: ROOT, env: process.env, encoding: 'utf8' });
-	expect(r.status, r.stderr).toBe(0);
+	own = await createOwnDatabase('runnel_mailfail');
+	process.env.DATABASE_URL = own.url;
 	process.env.SMTP_URL = `smtp://127.0.0.1:${await closedPort()}`;
 	process.env.MAIL_MAX_ATTEMPTS = '3';
 	dbm = await import('$lib/server/db');
@@ -58,7 +42,7 @@ afterAll(async () => {
 	await transport?.closeTransport();
 	await dbm?.closeDb();
 	process.env.DATABASE_URL = mainUrl;
-	await admin((c) => c.query(`drop database if exists ${dbName} with (force)`));
+	await own?.drop();
 });
 
 const row = (id: string) => dbm.getDb().selectFrom('mail_messages').selectAll().where('id', '=', id).executeTakeFirstOrThrow();

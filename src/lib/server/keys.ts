@@ -83,7 +83,12 @@ const LOCK = sql`select pg_advisory_xact_lock(hashtext('runnel.signing_keys'))`;
 
 /** The active key, generated on first use. */
 async function loadActiveKey(db: Kysely<Database>): Promise<{ kid: string; privateKey: CryptoKey }> {
-	const current = await db.selectFrom('signing_keys').select('kid').where('status', '=', 'active').executeTakeFirst();
+	const current = await db
+		.selectFrom('signing_keys')
+		.select(['kid', sql<boolean>`starts_with(private_jwk, 'plain:')`.as('plain')])
+		.where('status', '=', 'active')
+		.executeTakeFirst();
+	if (current?.plain && config.keySecret) await sealPlainKeys(db);
 	const cached = current && privateKeys.get(current.kid);
 	if (current && cached) return { kid: current.kid, privateKey: cached };
 
@@ -102,18 +107,24 @@ async function loadActiveKey(db: Kysely<Database>): Promise<{ kid: string; priva
 				.executeTakeFirstOrThrow();
 		});
 	}
-	const jwk = await openPrivateJwk(row.kid, row.private_jwk);
-	// A key stored before RUNNEL_KEY_SECRET was configured is encrypted now.
-	if (row.private_jwk.startsWith('plain:') && config.keySecret) {
-		await db
-			.updateTable('signing_keys')
-			.set({ private_jwk: await sealPrivateJwk(jwk) })
-			.where('kid', '=', row.kid)
-			.execute();
-	}
-	const privateKey = (await importJWK(jwk, SIGNING_ALG)) as CryptoKey;
+	const privateKey = (await importJWK(await openPrivateJwk(row.kid, row.private_jwk), SIGNING_ALG)) as CryptoKey;
 	privateKeys.set(row.kid, privateKey);
 	return { kid: row.kid, privateKey };
+}
+
+/** Keys stored before RUNNEL_KEY_SECRET was configured are encrypted as soon as it is. */
+async function sealPlainKeys(db: Kysely<Database>): Promise<void> {
+	const plain = await db.selectFrom('signing_keys').select(['kid', 'private_jwk']).where('private_jwk', 'like', 'plain:%').execute();
+	for (const r of plain) {
+		const sealed = await sealPrivateJwk(await openPrivateJwk(r.kid, r.private_jwk));
+		await db
+			.updateTable('signing_keys')
+			.set({ private_jwk: sealed })
+			.where('kid', '=', r.kid)
+			.where('private_jwk', '=', r.private_jwk)
+			.execute();
+	}
+	if (plain.length > 0) logger.info({ keys: plain.length }, 'encrypted the stored signing keys with RUNNEL_KEY_SECRET');
 }
 
 /** The `kid` of the key that signs now (generating the first key if there is none). */
