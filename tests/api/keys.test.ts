@@ -1,8 +1,10 @@
 // Signing keys in their own database: generated once even when several callers race, the private key
 // encrypted at rest under RUNNEL_KEY_SECRET, JWS/JWT signatures that verify only while the key is
 // published, and rotation/retirement rules.
+import { spawnSync } from 'node:child_process';
 import { compactVerify, createLocalJWKSet, decodeProtectedHeader, jwtVerify } from 'jose';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ROOT } from '../helpers/app';
 import { createOwnDatabase } from '../helpers/db';
 
 type Keys = typeof import('$lib/server/keys');
@@ -111,5 +113,29 @@ describe('signing keys', () => {
 		expect(previousKid).toBe(active);
 		await expect(keys.retireSigningKey(active)).rejects.toThrow(/may still be valid/);
 		await expect(keys.retireSigningKey('no-such-kid')).rejects.toThrow(/no signing key/);
+	});
+
+	it('npm run keys -- list | rotate | retire: the same operations for an operator', async () => {
+		const run = (...args: string[]) =>
+			spawnSync(process.execPath, ['--import', 'tsx', 'scripts/signing-keys.ts', ...args], {
+				cwd: ROOT,
+				env: { ...process.env, DATABASE_URL: own.url },
+				encoding: 'utf8'
+			});
+		const active = await keys.activeKid();
+		const list = run('list');
+		expect(list.status, list.stderr).toBe(0);
+		expect(list.stdout).toMatch(new RegExp(`^active\\s+${active}\\s+ES256\\s+encrypted`, 'm'));
+		const rotate = run('rotate');
+		expect(rotate.status, rotate.stderr).toBe(0);
+		expect(rotate.stdout).toContain(`previous (still published): ${active}`);
+		expect(await keys.activeKid()).not.toBe(active);
+		const refused = run('retire', active);
+		expect(refused.status).toBe(1);
+		expect(refused.stderr).toMatch(/may still be valid/);
+		const retire = run('retire', active, '--force');
+		expect(retire.status, retire.stderr).toBe(0);
+		expect((await keys.publicJwks()).keys.map((k) => k.kid)).not.toContain(active);
+		expect(run('bogus').stderr).toMatch(/usage/);
 	});
 });

@@ -64,6 +64,7 @@ export async function startFakeSmtp(db: Kysely<Database>): Promise<FakeSmtp> {
 		server.server.once('error', reject);
 		server.listen(0, '127.0.0.1', () => resolve());
 	});
+	server.server.unref(); // never what keeps a process alive
 	const { port } = server.server.address() as AddressInfo;
 	return {
 		host: '127.0.0.1',
