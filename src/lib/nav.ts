@@ -9,7 +9,9 @@ export interface NavItem {
 
 export const NAV: NavItem[] = [
 	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
-	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] }
+	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] },
+	{ href: '/admin/oauth-clients', label: 'OAuth clients', roles: ['admin'] },
+	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

@@ -28,13 +28,19 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/': { GET: publicAccess },
 	'/methods': { GET: signedIn, POST: roles('admin') },
 	'/methods/new': { GET: roles('admin'), POST: roles('admin') },
+	'/admin/outbox': { GET: roles('admin') },
+	'/admin/outbox/[id]': { GET: roles('admin'), POST: roles('admin') },
+	'/admin/oauth-clients': { GET: roles('admin'), POST: roles('admin') },
+	'/.well-known/jwks.json': { GET: publicAccess },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
 	'/api/v1/me': { GET: signedIn },
 	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: scope('admin') },
 	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
-	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: scope('admin') }
+	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: scope('admin') },
+	// OAuth client credentials: the client authenticates inside the request (RFC 6749 §2.3.1).
+	'/api/v1/oauth/token': { POST: publicAccess }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
