@@ -7,7 +7,14 @@ export interface NavItem {
 	roles: readonly Role[];
 }
 
-export const NAV: NavItem[] = [{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] }];
+export const NAV: NavItem[] = [
+	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
+	// accounts (admin); everyone's own account page is linked from the header, beside their name
+	{ href: '/admin/users', label: 'Users', roles: ['admin'] },
+	{ href: '/admin/districts', label: 'Districts', roles: ['admin'] },
+	{ href: '/admin/tokens', label: 'API tokens', roles: ['admin'] },
+	{ href: '/admin/audit', label: 'Audit log', roles: ['admin'] }
+];
 
 export function navFor(role: Role | null): NavItem[] {
 	return role ? NAV.filter((i) => i.roles.includes(role)) : [];

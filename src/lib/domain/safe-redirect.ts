@@ -1,0 +1,20 @@
+// Where to send someone after signing in: only a path on this site. Anything that could leave the
+// site (`//host`, `/\host`, `https://…`, `javascript:`) or loop back into signing in falls back.
+
+const PROBE_ORIGIN = 'http://runnel.invalid';
+const NO_RETURN = ['/sign-in', '/sign-out'];
+
+export function safeNextPath(next: string | null | undefined, fallback = '/'): string {
+	if (!next || next.length > 2000) return fallback;
+	// Browsers treat a backslash like a slash and drop tabs and newlines, so refuse them outright.
+	if (!next.startsWith('/') || next.startsWith('//') || /[\\\u0000-\u001f\u007f]/.test(next)) return fallback;
+	let url: URL;
+	try {
+		url = new URL(next, PROBE_ORIGIN);
+	} catch {
+		return fallback;
+	}
+	if (url.origin !== PROBE_ORIGIN) return fallback;
+	if (NO_RETURN.some((p) => url.pathname === p || url.pathname.startsWith(p + '/'))) return fallback;
+	return url.pathname + url.search + url.hash;
+}
