@@ -3,7 +3,15 @@
 export function formatDateTime(value: Date | string | null | undefined, timeZone: string): string {
 	if (!value) return '—';
 	const d = typeof value === 'string' ? new Date(value) : value;
-	return new Intl.DateTimeFormat('en-US', { dateStyle: 'medium', timeStyle: 'short', timeZone, timeZoneName: 'short' }).format(d);
+	return new Intl.DateTimeFormat('en-US', {
+		year: 'numeric',
+		month: 'short',
+		day: 'numeric',
+		hour: 'numeric',
+		minute: '2-digit',
+		timeZone,
+		timeZoneName: 'short'
+	}).format(d);
 }
 
 export function formatDate(value: Date | string | null | undefined, timeZone: string): string {
