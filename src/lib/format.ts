@@ -34,6 +34,16 @@ export function describeBrowser(ua: string | null | undefined): string {
 					: /curl\//.test(ua)
 						? 'curl'
 						: 'Other client';
-	const os = /Windows/.test(ua) ? 'Windows' : /Mac OS X/.test(ua) ? 'macOS' : /Android/.test(ua) ? 'Android' : /iPhone|iPad/.test(ua) ? 'iOS' : /Linux/.test(ua) ? 'Linux' : '';
+	const os = /Windows/.test(ua)
+		? 'Windows'
+		: /Mac OS X/.test(ua)
+			? 'macOS'
+			: /Android/.test(ua)
+				? 'Android'
+				: /iPhone|iPad/.test(ua)
+					? 'iOS'
+					: /Linux/.test(ua)
+						? 'Linux'
+						: '';
 	return os ? `${browser} on ${os}` : browser;
 }

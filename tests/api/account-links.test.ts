@@ -13,14 +13,16 @@ const NEW_PASSWORD = 'brand new password';
 beforeAll(async () => {
 	await createUser({ email: RESET_EMAIL, role: 'district', districtCode: 'CWB', password: OLD_PASSWORD, name: 'Reset Person' });
 });
-beforeEach(clearThrottle);
+beforeEach(() => clearThrottle());
 afterAll(async () => {
 	await clearThrottle();
 	await closeDb();
 });
 
 const get = async (path: string, cookie?: string) => {
-	const r = request(await appHandler()).get(path).redirects(0);
+	const r = request(await appHandler())
+		.get(path)
+		.redirects(0);
 	return cookie ? r.set('cookie', cookie) : r;
 };
 const signIn = (email: string, password: string) => postForm('/sign-in', { email, password });
@@ -46,7 +48,11 @@ describe('password reset', () => {
 		expect(mail!.html_body).not.toMatch(/<img|<link|url\(|src=/i);
 		// Only a hash is stored.
 		const token = link.pathname.split('/').pop()!;
-		const stored = await getDb().selectFrom('account_links').select(['token_hash', 'expires_at', 'created_at']).orderBy('id', 'desc').executeTakeFirstOrThrow();
+		const stored = await getDb()
+			.selectFrom('account_links')
+			.select(['token_hash', 'expires_at', 'created_at'])
+			.orderBy('id', 'desc')
+			.executeTakeFirstOrThrow();
 		expect(stored.token_hash).not.toContain(token);
 		expect(stored.expires_at.getTime() - stored.created_at.getTime()).toBeGreaterThan(59 * 60_000);
 		expect(stored.expires_at.getTime() - stored.created_at.getTime()).toBeLessThanOrEqual(60 * 60_000 + 5_000);
@@ -65,7 +71,13 @@ describe('password reset', () => {
 		expect(done.headers.location).toBe('/sign-in?notice=password-reset');
 
 		// Every earlier session has ended; the old password no longer works, the new one does.
-		expect((await request(await appHandler()).get('/api/v1/me').set('cookie', oldSession)).status).toBe(401);
+		expect(
+			(
+				await request(await appHandler())
+					.get('/api/v1/me')
+					.set('cookie', oldSession)
+			).status
+		).toBe(401);
 		expect((await signIn(RESET_EMAIL, OLD_PASSWORD)).status).toBe(400);
 		const ok = await signIn(RESET_EMAIL, NEW_PASSWORD);
 		expect(ok.status).toBe(303);
@@ -89,20 +101,30 @@ describe('password reset', () => {
 	});
 
 	it('an unknown address gets the same answer and no mail', async () => {
-		const before = await getDb().selectFrom('mail_messages').select((eb) => eb.fn.countAll<string>().as('n')).executeTakeFirstOrThrow();
+		const before = await getDb()
+			.selectFrom('mail_messages')
+			.select((eb) => eb.fn.countAll<string>().as('n'))
+			.executeTakeFirstOrThrow();
 		const known = await postForm('/forgot-password', { email: RESET_EMAIL });
 		const unknown = await postForm('/forgot-password', { email: 'nobody.here@runnel.test' });
 		expect(unknown.status).toBe(known.status);
-		const body = (html: string) => html.match(/<div class="card mt-gutter" role="status">[\s\S]*?<\/div>/)?.[0]?.replace(/<strong>[^<]*<\/strong>/, '');
+		const body = (html: string) =>
+			html.match(/<div class="card mt-gutter" role="status">[\s\S]*?<\/div>/)?.[0]?.replace(/<strong>[^<]*<\/strong>/, '');
 		expect(body(unknown.text)).toBeDefined();
 		expect(body(unknown.text)).toBe(body(known.text));
-		const after = await getDb().selectFrom('mail_messages').select((eb) => eb.fn.countAll<string>().as('n')).executeTakeFirstOrThrow();
+		const after = await getDb()
+			.selectFrom('mail_messages')
+			.select((eb) => eb.fn.countAll<string>().as('n'))
+			.executeTakeFirstOrThrow();
 		expect(Number(after.n) - Number(before.n)).toBeLessThanOrEqual(1); // only the known address may get one
 		expect(await lastMailTo('nobody.here@runnel.test')).toBeUndefined();
 	});
 
 	it('a newer link replaces the older one, and an expired link is refused', async () => {
-		await getDb().deleteFrom('account_links').where('user_id', '=', await userIdOf(RESET_EMAIL)).execute();
+		await getDb()
+			.deleteFrom('account_links')
+			.where('user_id', '=', await userIdOf(RESET_EMAIL))
+			.execute();
 		await postForm('/forgot-password', { email: RESET_EMAIL });
 		const first = linkIn((await lastMailTo(RESET_EMAIL))!.text_body);
 		await postForm('/forgot-password', { email: RESET_EMAIL });
@@ -121,7 +143,10 @@ describe('password reset', () => {
 	});
 
 	it('no more than three reset mails an hour for one account', async () => {
-		await getDb().deleteFrom('account_links').where('user_id', '=', await userIdOf(RESET_EMAIL)).execute();
+		await getDb()
+			.deleteFrom('account_links')
+			.where('user_id', '=', await userIdOf(RESET_EMAIL))
+			.execute();
 		const count = async () =>
 			Number(
 				(
@@ -151,11 +176,19 @@ describe('invitations', () => {
 		const admin = await sessionCookie('admin@runnel.test');
 		const ktp = (await getDb().selectFrom('districts').select('id').where('code', '=', 'KTP').executeTakeFirstOrThrow()).id;
 
-		const missingDistrict = await postForm('/admin/users?/invite', { name: 'Pat Example', email: INVITEE, role: 'district', district_id: '' }, admin);
+		const missingDistrict = await postForm(
+			'/admin/users?/invite',
+			{ name: 'Pat Example', email: INVITEE, role: 'district', district_id: '' },
+			admin
+		);
 		expect(missingDistrict.status).toBe(400);
 		expect(missingDistrict.text).toContain('District staff need a district.');
 
-		const res = await postForm('/admin/users?/invite', { name: 'Pat Example', email: INVITEE, role: 'district', district_id: String(ktp) }, admin);
+		const res = await postForm(
+			'/admin/users?/invite',
+			{ name: 'Pat Example', email: INVITEE, role: 'district', district_id: String(ktp) },
+			admin
+		);
 		expect(res.status).toBe(200);
 		expect(res.text).toContain('Invitation sent to');
 
@@ -188,7 +221,9 @@ describe('invitations', () => {
 		expect(accepted.status).toBe(303);
 		expect(accepted.headers.location).toBe('/');
 		const cookie = setCookie(accepted)!;
-		const me = await request(await appHandler()).get('/api/v1/me').set('cookie', cookie);
+		const me = await request(await appHandler())
+			.get('/api/v1/me')
+			.set('cookie', cookie);
 		expect(me.body).toMatchObject({ kind: 'session', role: 'district', district_id: ktp, email: INVITEE });
 
 		const again = await postForm(link.pathname, { password: 'hijack attempt 1', confirm: 'hijack attempt 1' });

@@ -18,7 +18,8 @@ beforeAll(async () => {
 afterAll(() => closeDb());
 
 const api = async () => request(await appHandler());
-const districtId = async (code: string) => (await getDb().selectFrom('districts').select('id').where('code', '=', code).executeTakeFirstOrThrow()).id;
+const districtId = async (code: string) =>
+	(await getDb().selectFrom('districts').select('id').where('code', '=', code).executeTakeFirstOrThrow()).id;
 
 describe('changing role and district', () => {
 	it('takes effect at once for sessions and tokens, and is audited', async () => {
@@ -30,7 +31,11 @@ describe('changing role and district', () => {
 		expect(bad.status).toBe(400);
 		expect(bad.text).toContain('District staff need a district.');
 
-		const res = await postForm(`/admin/users/${subjectId}?/update`, { name: 'Admin Subject', role: 'district', district_id: String(osf) }, admin);
+		const res = await postForm(
+			`/admin/users/${subjectId}?/update`,
+			{ name: 'Admin Subject', role: 'district', district_id: String(osf) },
+			admin
+		);
 		expect(res.status).toBe(200);
 
 		const viaSession = await (await api()).get('/api/v1/me').set('cookie', session);
@@ -47,7 +52,10 @@ describe('changing role and district', () => {
 			.where('subject_user_id', '=', subjectId)
 			.orderBy('id', 'desc')
 			.executeTakeFirstOrThrow();
-		expect(row.detail).toEqual({ from: { role: 'manager', district: null }, to: { role: 'district', district: 'Osprey Flats Conservation District' } });
+		expect(row.detail).toEqual({
+			from: { role: 'manager', district: null },
+			to: { role: 'district', district: 'Osprey Flats Conservation District' }
+		});
 		expect(row.actor_user_id).toBe(await userIdOf('admin@runnel.test'));
 	});
 
@@ -85,7 +93,9 @@ describe('deactivation', () => {
 
 		expect((await postForm(`/admin/users/${id}?/reactivate`, {}, admin)).status).toBe(200);
 		expect((await (await api()).get('/api/v1/me').set(bearer(token))).status).toBe(200);
-		const actions = (await getDb().selectFrom('audit_log').select('action').where('subject_user_id', '=', id).execute()).map((r) => r.action);
+		const actions = (await getDb().selectFrom('audit_log').select('action').where('subject_user_id', '=', id).execute()).map(
+			(r) => r.action
+		);
 		expect(actions).toEqual(expect.arrayContaining(['user-deactivated', 'user-reactivated']));
 	});
 });
@@ -100,7 +110,15 @@ describe('districts', () => {
 
 		const foreign = await postForm(
 			`/admin/districts/${id}?/update`,
-			{ name: 'Meadowlark Run Conservation District', region: 'Central Iowa', counties: ['19153', '17031'], contact_name: [''], contact_email: [''], contact_title: [''], contact_phone: [''] },
+			{
+				name: 'Meadowlark Run Conservation District',
+				region: 'Central Iowa',
+				counties: ['19153', '17031'],
+				contact_name: [''],
+				contact_email: [''],
+				contact_title: [''],
+				contact_phone: ['']
+			},
 			admin
 		);
 		expect(foreign.status).toBe(400);
@@ -108,7 +126,15 @@ describe('districts', () => {
 
 		const badContact = await postForm(
 			`/admin/districts/${id}?/update`,
-			{ name: 'Meadowlark Run Conservation District', region: 'Central Iowa', counties: ['19153'], contact_name: ['Someone'], contact_email: ['not-mail'], contact_title: [''], contact_phone: [''] },
+			{
+				name: 'Meadowlark Run Conservation District',
+				region: 'Central Iowa',
+				counties: ['19153'],
+				contact_name: ['Someone'],
+				contact_email: ['not-mail'],
+				contact_title: [''],
+				contact_phone: ['']
+			},
 			admin
 		);
 		expect(badContact.status).toBe(400);
@@ -135,9 +161,16 @@ describe('districts', () => {
 			{ name: 'Oskar Fenwhistle', title: 'District conservationist', email: 'oskar.fenwhistle@meadowlarkrun.example.org' },
 			{ name: 'Lune Abernathy-Cole', email: 'lune.ac@meadowlarkrun.example.org', phone: '515-555-0142' }
 		]);
-		const counties = (await getDb().selectFrom('district_counties').select('county_fips').where('district_id', '=', id).execute()).map((r) => r.county_fips).sort();
+		const counties = (await getDb().selectFrom('district_counties').select('county_fips').where('district_id', '=', id).execute())
+			.map((r) => r.county_fips)
+			.sort();
 		expect(counties).toEqual(['19049', '19099', '19153']);
-		const audit = await getDb().selectFrom('audit_log').select('detail').where('action', '=', 'district-updated').orderBy('id', 'desc').executeTakeFirstOrThrow();
+		const audit = await getDb()
+			.selectFrom('audit_log')
+			.select('detail')
+			.where('action', '=', 'district-updated')
+			.orderBy('id', 'desc')
+			.executeTakeFirstOrThrow();
 		expect(audit.detail).toMatchObject({ counties_added: ['19099'], counties_removed: [] });
 	});
 
@@ -178,7 +211,15 @@ describe('audit log page', () => {
 		// More entries than one page holds (50):
 		await getDb()
 			.insertInto('audit_log')
-			.values(Array.from({ length: 60 }, (_, i) => ({ action: 'sign-in', actor: `user:${subjectId}`, actor_user_id: subjectId, subject_user_id: subjectId, detail: JSON.stringify({ n: i }) })))
+			.values(
+				Array.from({ length: 60 }, (_, i) => ({
+					action: 'sign-in',
+					actor: `user:${subjectId}`,
+					actor_user_id: subjectId,
+					subject_user_id: subjectId,
+					detail: JSON.stringify({ n: i })
+				}))
+			)
 			.execute();
 		const all = await (await api()).get('/admin/audit').set('cookie', admin);
 		const older = all.text.match(/href="(\/admin\/audit\?before=\d+)"/)?.[1];

@@ -17,7 +17,14 @@ import { listRoutes, type RouteInfo } from '../helpers/routes';
 
 type Who =
 	| { label: string; kind: 'anonymous' }
-	| { label: string; kind: 'demo'; demo: keyof typeof DEMO_TOKENS; role: Role; district: 'first' | 'second' | null; scopes: readonly Scope[] }
+	| {
+			label: string;
+			kind: 'demo';
+			demo: keyof typeof DEMO_TOKENS;
+			role: Role;
+			district: 'first' | 'second' | null;
+			scopes: readonly Scope[];
+	  }
 	| { label: string; kind: 'lacking'; lacks: Scope; role: Role; district: null; scopes: readonly Scope[] };
 
 const DEMO: Array<{ demo: keyof typeof DEMO_TOKENS; email: string; role: Role; district: 'first' | 'second' | null }> = [
@@ -74,9 +81,14 @@ interface Cell {
 }
 
 const anonymous: Who = { label: 'anonymous', kind: 'anonymous' };
-const demoWho = DEMO.map(
-	(d): Who => ({ label: d.demo === 'district2' ? 'district (other district)' : d.demo, kind: 'demo', demo: d.demo, role: d.role, district: d.district, scopes: ROLE_SCOPES[d.role] })
-);
+const demoWho = DEMO.map((d): Who => ({
+	label: d.demo === 'district2' ? 'district (other district)' : d.demo,
+	kind: 'demo',
+	demo: d.demo,
+	role: d.role,
+	district: d.district,
+	scopes: ROLE_SCOPES[d.role]
+}));
 
 const cells: Cell[] = [];
 for (const route of routes) {
@@ -84,12 +96,26 @@ for (const route of routes) {
 		const rule = ruleFor(route.id, method);
 		const kind = isApi(route) ? 'API' : route.kind === 'page' ? 'page' : 'endpoint';
 		if (!rule) {
-			cells.push({ name: `${method} ${route.id} (${kind}) is in the permission table`, route, method, rule, who: anonymous, expect: 'missing' });
+			cells.push({
+				name: `${method} ${route.id} (${kind}) is in the permission table`,
+				route,
+				method,
+				rule,
+				who: anonymous,
+				expect: 'missing'
+			});
 			continue;
 		}
 		const whos: Who[] = [anonymous, ...demoWho];
 		if (rule.kind === 'scope') {
-			whos.push({ label: `token lacking ${rule.scope}`, kind: 'lacking', lacks: rule.scope, role: 'admin', district: null, scopes: SCOPES.filter((s) => s !== rule.scope) });
+			whos.push({
+				label: `token lacking ${rule.scope}`,
+				kind: 'lacking',
+				lacks: rule.scope,
+				role: 'admin',
+				district: null,
+				scopes: SCOPES.filter((s) => s !== rule.scope)
+			});
 		}
 		for (const who of whos) {
 			// The "other district" column exists only where the route is district-scoped.
@@ -104,7 +130,15 @@ const lackingTokens = new Map<Scope, string>();
 
 beforeAll(async () => {
 	const adminId = await userIdOf('admin@runnel.test');
-	for (const s of SCOPES) lackingTokens.set(s, await createToken(adminId, SCOPES.filter((x) => x !== s), `matrix: lacks ${s}`));
+	for (const s of SCOPES)
+		lackingTokens.set(
+			s,
+			await createToken(
+				adminId,
+				SCOPES.filter((x) => x !== s),
+				`matrix: lacks ${s}`
+			)
+		);
 });
 afterAll(async () => {
 	await getDb().deleteFrom('api_tokens').where('name', 'like', 'matrix: %').execute();

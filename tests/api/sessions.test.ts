@@ -13,7 +13,7 @@ const PASSWORD = 'correct horse battery';
 beforeAll(async () => {
 	await createUser({ email: EMAIL, role: 'manager', password: PASSWORD, name: 'Sessions Person' });
 });
-beforeEach(clearThrottle);
+beforeEach(() => clearThrottle());
 afterAll(async () => {
 	await clearThrottle();
 	await closeDb();
@@ -24,7 +24,10 @@ async function signIn(next?: string) {
 	return { res, cookie: setCookie(res) };
 }
 
-const me = async (cookie: string) => request(await appHandler()).get('/api/v1/me').set('cookie', cookie);
+const me = async (cookie: string) =>
+	request(await appHandler())
+		.get('/api/v1/me')
+		.set('cookie', cookie);
 
 describe('signing in through the form', () => {
 	it('sets an httpOnly, SameSite=Lax session cookie (not Secure on an http origin) and stores only its hash', async () => {
@@ -37,7 +40,11 @@ describe('signing in through the form', () => {
 		expect(raw).toMatch(/Path=\//);
 		expect(raw).not.toMatch(/;\s*Secure/i);
 		const token = cookie!.split('=')[1];
-		const rows = await getDb().selectFrom('sessions').select(['token_hash']).where('user_id', '=', await userIdOf(EMAIL)).execute();
+		const rows = await getDb()
+			.selectFrom('sessions')
+			.select(['token_hash'])
+			.where('user_id', '=', await userIdOf(EMAIL))
+			.execute();
 		const hashes = rows.map((r) => r.token_hash);
 		expect(hashes).toContain(createHash('sha256').update(token).digest('hex'));
 		expect(hashes).not.toContain(token);
@@ -66,7 +73,10 @@ describe('signing in through the form', () => {
 
 	it('a signed-in visitor to /sign-in goes on to the next page', async () => {
 		const { cookie } = await signIn();
-		const res = await request(await appHandler()).get('/sign-in?next=/account').set('cookie', cookie!).redirects(0);
+		const res = await request(await appHandler())
+			.get('/sign-in?next=/account')
+			.set('cookie', cookie!)
+			.redirects(0);
 		expect(res.status).toBe(303);
 		expect(res.headers.location).toBe('/account');
 	});
@@ -129,7 +139,10 @@ describe('ending sessions', () => {
 			.where('token_hash', '=', hash)
 			.execute();
 		expect((await me(cookie!)).status).toBe(401);
-		const page = await request(await appHandler()).get('/account').set('cookie', cookie!).redirects(0);
+		const page = await request(await appHandler())
+			.get('/account')
+			.set('cookie', cookie!)
+			.redirects(0);
 		expect(page.status).toBe(303);
 		expect(page.headers.location).toBe('/sign-in?next=%2Faccount');
 	});

@@ -13,14 +13,17 @@ const PASSWORD = 'the right password';
 beforeAll(async () => {
 	await createUser({ email: EMAIL, role: 'researcher', password: PASSWORD, name: 'Abuse Target' });
 });
-beforeEach(clearThrottle);
+beforeEach(() => clearThrottle());
 afterAll(async () => {
 	await clearThrottle();
 	await closeDb();
 });
 
 const apiSignIn = async (email: string, password: string) =>
-	request(await appHandler()).post('/api/v1/sessions').set('content-type', 'application/json').send(JSON.stringify({ email, password }));
+	request(await appHandler())
+		.post('/api/v1/sessions')
+		.set('content-type', 'application/json')
+		.send(JSON.stringify({ email, password }));
 
 describe('POST /api/v1/sessions', () => {
 	it('signs in with the right password: 201 and a session cookie that works on the API', async () => {
@@ -28,7 +31,9 @@ describe('POST /api/v1/sessions', () => {
 		expect(res.status).toBe(201);
 		expect(res.body.expires_at).toEqual(expect.any(String));
 		const cookie = (res.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
-		const me = await request(await appHandler()).get('/api/v1/me').set('cookie', cookie);
+		const me = await request(await appHandler())
+			.get('/api/v1/me')
+			.set('cookie', cookie);
 		expect(me.body).toMatchObject({ kind: 'session', role: 'researcher' });
 	});
 

@@ -12,7 +12,13 @@ const EMAIL = 'token.owner@runnel.test';
 let ownerId: number;
 
 beforeAll(async () => {
-	ownerId = await createUser({ email: EMAIL, role: 'district', districtCode: 'BLH', password: 'token owner password', name: 'Token Owner' });
+	ownerId = await createUser({
+		email: EMAIL,
+		role: 'district',
+		districtCode: 'BLH',
+		password: 'token owner password',
+		name: 'Token Owner'
+	});
 });
 afterAll(() => closeDb());
 
@@ -23,11 +29,21 @@ const postJson = async (path: string, auth: Record<string, string>, body: unknow
 describe('POST /api/v1/tokens', () => {
 	it('creates a token shown once, with a rnl_ prefix, stored only as its SHA-256 hash', async () => {
 		const auth = { cookie: await sessionCookie(EMAIL) };
-		const res = await postJson('/api/v1/tokens', auth, { name: 'nightly upload', scopes: ['records:write', 'records:read'], expires_at: '2099-01-01T00:00:00Z' });
+		const res = await postJson('/api/v1/tokens', auth, {
+			name: 'nightly upload',
+			scopes: ['records:write', 'records:read'],
+			expires_at: '2099-01-01T00:00:00Z'
+		});
 		expect(res.status).toBe(201);
 		expect(res.body.token).toMatch(/^rnl_[A-Za-z0-9_-]{32}$/);
 		expect(res.headers.location).toBe(`/api/v1/tokens/${res.body.id}`);
-		expect(res.body).toMatchObject({ name: 'nightly upload', scopes: ['records:write', 'records:read'], status: 'active', expires_at: '2099-01-01T00:00:00.000Z', last_used_at: null });
+		expect(res.body).toMatchObject({
+			name: 'nightly upload',
+			scopes: ['records:write', 'records:read'],
+			status: 'active',
+			expires_at: '2099-01-01T00:00:00.000Z',
+			last_used_at: null
+		});
 		const row = await getDb().selectFrom('api_tokens').selectAll().where('id', '=', res.body.id).executeTakeFirstOrThrow();
 		expect(row.token_hash).toBe(createHash('sha256').update(res.body.token).digest('hex'));
 		expect(JSON.stringify(row)).not.toContain(res.body.token);
@@ -43,7 +59,11 @@ describe('POST /api/v1/tokens', () => {
 	});
 
 	it('refuses scopes beyond the role with 422 and a pointer to each one', async () => {
-		const res = await postJson('/api/v1/tokens', { cookie: await sessionCookie(EMAIL) }, { name: 'too much', scopes: ['records:read', 'dataset:read', 'bogus'] });
+		const res = await postJson(
+			'/api/v1/tokens',
+			{ cookie: await sessionCookie(EMAIL) },
+			{ name: 'too much', scopes: ['records:read', 'dataset:read', 'bogus'] }
+		);
 		expect(res.status).toBe(422);
 		expect(res.body.type).toBe('urn:runnel:problem:invalid-scope');
 		expect(res.body.errors).toEqual([
@@ -134,7 +154,11 @@ describe('DELETE /api/v1/tokens/{id}', () => {
 describe('account page and admin token pages', () => {
 	it('the account page creates a token, shows it once, and lists it afterwards without the secret', async () => {
 		const cookie = await sessionCookie(EMAIL);
-		const res = await postForm('/account?/createToken', { name: 'from the page', scopes: ['records:read', 'rollups:read'], expires_in_days: '30' }, cookie);
+		const res = await postForm(
+			'/account?/createToken',
+			{ name: 'from the page', scopes: ['records:read', 'rollups:read'], expires_in_days: '30' },
+			cookie
+		);
 		expect(res.status).toBe(200);
 		const token = res.text.match(/value="(rnl_[A-Za-z0-9_-]+)"/)?.[1];
 		expect(token).toBeDefined();
@@ -163,7 +187,12 @@ describe('account page and admin token pages', () => {
 		const res = await postForm('/admin/tokens?/revoke', { id: String(id) }, admin);
 		expect(res.status).toBe(200);
 		expect((await (await api()).get('/api/v1/me').set(bearer(t))).status).toBe(401);
-		const audit = await getDb().selectFrom('audit_log').select(['actor_user_id']).where('action', '=', 'token-revoked').orderBy('id', 'desc').executeTakeFirstOrThrow();
+		const audit = await getDb()
+			.selectFrom('audit_log')
+			.select(['actor_user_id'])
+			.where('action', '=', 'token-revoked')
+			.orderBy('id', 'desc')
+			.executeTakeFirstOrThrow();
 		expect(audit.actor_user_id).toBe(await userIdOf('admin@runnel.test'));
 	});
 });

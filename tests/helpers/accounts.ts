@@ -27,7 +27,13 @@ export async function sessionCookie(email: string): Promise<string> {
 	return `${sessionCookieName()}=${s.token}`;
 }
 
-export async function createUser(opts: { email: string; name?: string; role: Role; districtCode?: string; password?: string }): Promise<number> {
+export async function createUser(opts: {
+	email: string;
+	name?: string;
+	role: Role;
+	districtCode?: string;
+	password?: string;
+}): Promise<number> {
 	const db = getDb();
 	const districtId = opts.districtCode
 		? (await db.selectFrom('districts').select('id').where('code', '=', opts.districtCode).executeTakeFirstOrThrow()).id
@@ -56,9 +62,14 @@ export async function createToken(userId: number, scopes: Scope[], name = 'test 
 	return token;
 }
 
-/** Forgets every sign-in failure (tests share 127.0.0.1, which has its own limit). */
-export async function clearThrottle(): Promise<void> {
-	await getDb().deleteFrom('sign_in_throttle').execute();
+/**
+ * Forgets sign-in failures (tests share 127.0.0.1, which has its own limit). Accounts named
+ * `e2e.…@runnel.test` belong to the browser tests, which may run alongside, and are left alone unless asked.
+ */
+export async function clearThrottle(opts: { browserAccounts?: boolean } = {}): Promise<void> {
+	let q = getDb().deleteFrom('sign_in_throttle');
+	if (!opts.browserAccounts) q = q.where('key', 'not like', 'account:e2e.%');
+	await q.execute();
 }
 
 /** POSTs a form as a browser without JavaScript would (same Origin, Accept: text/html). */

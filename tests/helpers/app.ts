@@ -1,6 +1,6 @@
 // Loads the built app (build/handler.js) for supertest and the browser tests.
 import http from 'node:http';
-import type { AddressInfo } from 'node:net';
+import net, { type AddressInfo } from 'node:net';
 import path from 'node:path';
 import { pathToFileURL } from 'node:url';
 
@@ -18,11 +18,31 @@ export function appHandler(): Promise<Handler> {
 	return handlerPromise;
 }
 
-/** Starts the built app on a free loopback port; returns its origin and a close function. */
+function freePort(): Promise<number> {
+	return new Promise((resolve, reject) => {
+		const srv = net.createServer();
+		srv.once('error', reject);
+		srv.listen(0, '127.0.0.1', () => {
+			const { port } = srv.address() as AddressInfo;
+			srv.close(() => resolve(port));
+		});
+	});
+}
+
+/**
+ * Starts the built app on a free loopback port; returns its origin and a close function. When it is the
+ * first to load the app in this test file, it sets ORIGIN to that port (adapter-node reads ORIGIN once,
+ * at import), so same-origin form posts pass SvelteKit's CSRF check and mailed links point at it.
+ */
 export async function startApp(): Promise<{ origin: string; close: () => Promise<void> }> {
+	let port = 0;
+	if (!handlerPromise) {
+		port = await freePort();
+		process.env.ORIGIN = `http://127.0.0.1:${port}`;
+	}
 	const handler = await appHandler();
 	const server = http.createServer(handler);
-	await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
+	await new Promise<void>((r) => server.listen(port, '127.0.0.1', r));
 	const origin = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
 	return {
 		origin,

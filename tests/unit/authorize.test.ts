@@ -22,7 +22,11 @@ describe('decide', () => {
 	it('public, signed-in, scope and roles rules', () => {
 		expect(decide(access.public, null)).toEqual({ ok: true });
 		expect(decide(access.signedIn, null)).toEqual({ ok: false, reason: 'unauthenticated' });
-		expect(decide(access.scope('records:write'), who('researcher'))).toEqual({ ok: false, reason: 'insufficient_scope', scope: 'records:write' });
+		expect(decide(access.scope('records:write'), who('researcher'))).toEqual({
+			ok: false,
+			reason: 'insufficient_scope',
+			scope: 'records:write'
+		});
 		expect(decide(access.scope('records:write'), who('district', 1))).toEqual({ ok: true });
 		expect(decide(access.roles('admin'), who('manager'))).toEqual({ ok: false, reason: 'forbidden_role' });
 	});

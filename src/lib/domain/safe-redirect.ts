@@ -7,7 +7,7 @@ const NO_RETURN = ['/sign-in', '/sign-out'];
 export function safeNextPath(next: string | null | undefined, fallback = '/'): string {
 	if (!next || next.length > 2000) return fallback;
 	// Browsers treat a backslash like a slash and drop tabs and newlines, so refuse them outright.
-	if (!next.startsWith('/') || next.startsWith('//') || /[\\\u0000-\u001f\u007f]/.test(next)) return fallback;
+	if (!next.startsWith('/') || next.startsWith('//') || next.includes('\\') || hasControlCharacter(next)) return fallback;
 	let url: URL;
 	try {
 		url = new URL(next, PROBE_ORIGIN);
@@ -17,4 +17,12 @@ export function safeNextPath(next: string | null | undefined, fallback = '/'): s
 	if (url.origin !== PROBE_ORIGIN) return fallback;
 	if (NO_RETURN.some((p) => url.pathname === p || url.pathname.startsWith(p + '/'))) return fallback;
 	return url.pathname + url.search + url.hash;
+}
+
+function hasControlCharacter(s: string): boolean {
+	for (let i = 0; i < s.length; i++) {
+		const c = s.charCodeAt(i);
+		if (c < 0x20 || c === 0x7f) return true;
+	}
+	return false;
 }

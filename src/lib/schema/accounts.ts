@@ -41,10 +41,14 @@ export const changePasswordSchema = z
 
 const personName = z.string({ error: 'Enter a name.' }).trim().min(1, 'Enter a name.').max(120, 'Use at most 120 characters.');
 const roleField = z.enum(ROLES, { error: 'Choose a role.' });
-const optionalId = z.preprocess((v) => (v === '' || v === null || v === undefined ? null : Number(v)), z.number().int().positive().nullable());
+const optionalId = z.preprocess(
+	(v) => (v === '' || v === null || v === undefined ? null : Number(v)),
+	z.number().int().positive().nullable()
+);
 
 const districtMatchesRole = (v: { role: string; district_id: number | null }, ctx: z.RefinementCtx) => {
-	if (v.role === 'district' && v.district_id === null) ctx.addIssue({ code: 'custom', path: ['district_id'], message: 'District staff need a district.' });
+	if (v.role === 'district' && v.district_id === null)
+		ctx.addIssue({ code: 'custom', path: ['district_id'], message: 'District staff need a district.' });
 };
 
 export const inviteSchema = z
@@ -60,12 +64,19 @@ export const userUpdateSchema = z
 /** Expiry choices on the account page, in days (empty: never). */
 export const TOKEN_EXPIRY_DAYS = [7, 30, 90, 365] as const;
 
-export const tokenName = z.string({ error: 'Name the token.' }).trim().min(1, 'Name the token, e.g. "nightly upload".').max(80, 'Use at most 80 characters.');
+export const tokenName = z
+	.string({ error: 'Name the token.' })
+	.trim()
+	.min(1, 'Name the token, e.g. "nightly upload".')
+	.max(80, 'Use at most 80 characters.');
 
 /** POST /api/v1/tokens body. */
 export const tokenCreateSchema = z.object({
 	name: tokenName,
-	scopes: z.array(z.string()).min(1, 'Ask for at least one scope.').max(SCOPES.length * 2),
+	scopes: z
+		.array(z.string())
+		.min(1, 'Ask for at least one scope.')
+		.max(SCOPES.length * 2),
 	expires_at: z.iso
 		.datetime({ offset: true, error: 'Give an ISO 8601 date-time, e.g. 2027-06-30T00:00:00Z.' })
 		.nullable()

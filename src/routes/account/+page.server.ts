@@ -54,7 +54,13 @@ export const actions = {
 		if (!/^\d+$/.test(id)) return fail(400, { action: 'endSession', message: 'No such session.' });
 		const db = getDb();
 		if (!(await endSession(db, id, p.userId))) return fail(404, { action: 'endSession', message: 'That session had already ended.' });
-		await recordAudit(db, { action: 'session-revoked', actor: p, subjectUserId: p.userId, ip: clientOf(event).ip, detail: { session: id } });
+		await recordAudit(db, {
+			action: 'session-revoked',
+			actor: p,
+			subjectUserId: p.userId,
+			ip: clientOf(event).ip,
+			detail: { session: id }
+		});
 		if (p.kind === 'session' && p.credentialId === id) {
 			clearSessionCookie(event.cookies);
 			redirect(303, '/sign-in?notice=signed-out');
@@ -66,7 +72,13 @@ export const actions = {
 		const p = person(event.locals.principal);
 		const db = getDb();
 		const n = await endAllSessions(db, p.userId);
-		await recordAudit(db, { action: 'sign-out-everywhere', actor: p, subjectUserId: p.userId, ip: clientOf(event).ip, detail: { sessions_ended: n } });
+		await recordAudit(db, {
+			action: 'sign-out-everywhere',
+			actor: p,
+			subjectUserId: p.userId,
+			ip: clientOf(event).ip,
+			detail: { sessions_ended: n }
+		});
 		clearSessionCookie(event.cookies);
 		redirect(303, '/sign-in?notice=signed-out-everywhere');
 	},
@@ -84,7 +96,8 @@ export const actions = {
 			{ name: parsed.data.name, scopes: parsed.data.scopes, expiresAt: days ? new Date(Date.now() + days * 86_400_000) : null },
 			clientOf(event).ip
 		);
-		if (!r.ok) return fail(400, { action: 'createToken', errors: { [r.field === 'expires_at' ? 'expires_in_days' : r.field]: r.message }, values });
+		if (!r.ok)
+			return fail(400, { action: 'createToken', errors: { [r.field === 'expires_at' ? 'expires_in_days' : r.field]: r.message }, values });
 		return { action: 'createToken', created: { name: r.row.name, token: r.token, scopes: r.row.scopes, expiresAt: r.row.expiresAt } };
 	},
 

@@ -11,7 +11,13 @@ export const POST: RequestHandler = async (event) => {
 	if (p?.kind === 'session') {
 		const db = getDb();
 		if (await endSession(db, p.credentialId)) {
-			await recordAudit(db, { action: 'sign-out', actor: p, subjectUserId: p.userId, ip: clientOf(event).ip, detail: { session: p.credentialId } });
+			await recordAudit(db, {
+				action: 'sign-out',
+				actor: p,
+				subjectUserId: p.userId,
+				ip: clientOf(event).ip,
+				detail: { session: p.credentialId }
+			});
 		}
 	}
 	clearSessionCookie(event.cookies);

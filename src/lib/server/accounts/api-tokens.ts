@@ -114,7 +114,9 @@ export async function listApiTokens(
 	let q = baseQuery(db);
 	if (opts.userId !== undefined) q = q.where('t.user_id', '=', opts.userId);
 	if (opts.activeOnly) {
-		q = q.where('t.revoked_at', 'is', null).where((eb) => eb.or([eb('t.expires_at', 'is', null), eb('t.expires_at', '>', sql<Date>`now()`)]));
+		q = q
+			.where('t.revoked_at', 'is', null)
+			.where((eb) => eb.or([eb('t.expires_at', 'is', null), eb('t.expires_at', '>', sql<Date>`now()`)]));
 	}
 	if (opts.before !== undefined) q = q.where('t.id', '<', opts.before);
 	const raw = await q
@@ -141,7 +143,13 @@ export async function revokeApiToken(
 		if (opts.ownerId !== undefined) q = q.where('user_id', '=', opts.ownerId);
 		const r = await q.returning(['user_id', 'name']).executeTakeFirst();
 		if (!r) return false;
-		await recordAudit(trx, { action: 'token-revoked', actor: opts.actor, subjectUserId: r.user_id, ip: opts.ip, detail: { token: id, name: r.name } });
+		await recordAudit(trx, {
+			action: 'token-revoked',
+			actor: opts.actor,
+			subjectUserId: r.user_id,
+			ip: opts.ip,
+			detail: { token: id, name: r.name }
+		});
 		return true;
 	});
 }
@@ -172,11 +180,16 @@ export async function createOwnToken(
 		};
 	}
 	if (ok.length === 0) return { ok: false, field: 'scopes', message: 'Choose at least one scope.' };
-	if (input.expiresAt && input.expiresAt.getTime() <= Date.now()) return { ok: false, field: 'expires_at', message: 'The expiry must be in the future.' };
+	if (input.expiresAt && input.expiresAt.getTime() <= Date.now())
+		return { ok: false, field: 'expires_at', message: 'The expiry must be in the future.' };
 	const expiresAt = input.expiresAt;
 	if (caller.kind === 'token' && caller.expiresAt) {
 		if (!expiresAt || expiresAt > caller.expiresAt) {
-			return { ok: false, field: 'expires_at', message: `A token cannot outlive the token that creates it (${caller.expiresAt.toISOString()}).` };
+			return {
+				ok: false,
+				field: 'expires_at',
+				message: `A token cannot outlive the token that creates it (${caller.expiresAt.toISOString()}).`
+			};
 		}
 	}
 	const created = await createApiToken(db, { userId: caller.userId, name: input.name, scopes: ok, expiresAt, actor: caller, ip });

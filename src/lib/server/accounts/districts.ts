@@ -40,7 +40,12 @@ export async function listDistricts(db: Db, opts: { onlyId?: number | null; code
 			'd.region',
 			'd.contacts',
 			'd.notify_on_rejected',
-			eb.selectFrom('users as u').whereRef('u.district_id', '=', 'd.id').where('u.active', '=', true).select(eb.fn.countAll<string>().as('n')).as('users')
+			eb
+				.selectFrom('users as u')
+				.whereRef('u.district_id', '=', 'd.id')
+				.where('u.active', '=', true)
+				.select(eb.fn.countAll<string>().as('n'))
+				.as('users')
 		]);
 	if (opts.onlyId !== undefined && opts.onlyId !== null) q = q.where('d.id', '=', opts.onlyId);
 	if (opts.code !== undefined) q = q.where('d.code', '=', opts.code);
@@ -85,7 +90,11 @@ export async function createDistrict(
 ): Promise<{ ok: true; id: number } | { ok: false; field: string; message: string }> {
 	try {
 		const id = await db.transaction().execute(async (trx) => {
-			const r = await trx.insertInto('districts').values({ code: input.code, name: input.name, region: input.region }).returning('id').executeTakeFirstOrThrow();
+			const r = await trx
+				.insertInto('districts')
+				.values({ code: input.code, name: input.name, region: input.region })
+				.returning('id')
+				.executeTakeFirstOrThrow();
 			await recordAudit(trx, { action: 'district-created', actor, ip, detail: { district: r.id, code: input.code, name: input.name } });
 			return r.id;
 		});
@@ -113,7 +122,12 @@ export async function updateDistrict(
 	await db.transaction().execute(async (trx) => {
 		await trx
 			.updateTable('districts')
-			.set({ name: input.name, region: input.region, contacts: JSON.stringify(input.contacts), notify_on_rejected: input.notify_on_rejected })
+			.set({
+				name: input.name,
+				region: input.region,
+				contacts: JSON.stringify(input.contacts),
+				notify_on_rejected: input.notify_on_rejected
+			})
 			.where('id', '=', id)
 			.execute();
 		await trx.deleteFrom('district_counties').where('district_id', '=', id).execute();

@@ -25,7 +25,10 @@ export async function adminHome(db: Kysely<Database>) {
 					.where('action', '=', 'sign-in-failed')
 					.where('at', '>', sql<Date>`now() - interval '24 hours'`)
 					.as('failures'),
-				eb.selectFrom('districts').select((e) => e.fn.countAll<string>().as('n')).as('districts')
+				eb
+					.selectFrom('districts')
+					.select((e) => e.fn.countAll<string>().as('n'))
+					.as('districts')
 			])
 			.executeTakeFirstOrThrow(),
 		listAudit(db, { limit: 5 })

@@ -53,6 +53,11 @@ export function passwordResetMail(opts: { to: string; name: string; url: string;
 		to: [opts.to],
 		subject: 'Reset your Runnel password',
 		text: `Hello ${opts.name},\n\n${intro}\n\n${step}\n\n${opts.url}\n\n${footer}\n\n— Runnel\n`,
-		html: html('Reset your Runnel password', [`Hello ${opts.name},`, intro, step], { href: opts.url, label: 'Choose a new password' }, footer)
+		html: html(
+			'Reset your Runnel password',
+			[`Hello ${opts.name},`, intro, step],
+			{ href: opts.url, label: 'Choose a new password' },
+			footer
+		)
 	};
 }

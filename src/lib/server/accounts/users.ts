@@ -164,7 +164,11 @@ export async function updateUser(
 	const dName = await districtName(db, input.district_id);
 	if (input.district_id !== null && dName === null) return { ok: false, field: 'district_id', message: 'Choose a district from the list.' };
 	await db.transaction().execute(async (trx) => {
-		await trx.updateTable('users').set({ name: input.name, role: input.role, district_id: input.district_id }).where('id', '=', userId).execute();
+		await trx
+			.updateTable('users')
+			.set({ name: input.name, role: input.role, district_id: input.district_id })
+			.where('id', '=', userId)
+			.execute();
 		if (roleChanged) {
 			await recordAudit(trx, {
 				action: 'role-changed',
@@ -175,7 +179,13 @@ export async function updateUser(
 			});
 		}
 		if (before.name !== input.name) {
-			await recordAudit(trx, { action: 'user-updated', actor, subjectUserId: userId, ip, detail: { from: { name: before.name }, to: { name: input.name } } });
+			await recordAudit(trx, {
+				action: 'user-updated',
+				actor,
+				subjectUserId: userId,
+				ip,
+				detail: { from: { name: before.name }, to: { name: input.name } }
+			});
 		}
 	});
 	return { ok: true };
@@ -185,10 +195,22 @@ export async function updateUser(
  * Deactivating ends the user's sessions at once and makes their links unusable; their API tokens stop
  * working while the account is deactivated (principalFromApiToken checks `active`).
  */
-export async function setActive(db: Db, userId: number, active: boolean, actor: Principal, ip: string | null): Promise<{ ok: true } | Refusal> {
+export async function setActive(
+	db: Db,
+	userId: number,
+	active: boolean,
+	actor: Principal,
+	ip: string | null
+): Promise<{ ok: true } | Refusal> {
 	if (actor.userId === userId && !active) return { ok: false, field: '_form', message: 'You cannot deactivate your own account.' };
 	const found = await db.transaction().execute(async (trx) => {
-		const r = await trx.updateTable('users').set({ active }).where('id', '=', userId).where('active', '=', !active).returning('id').executeTakeFirst();
+		const r = await trx
+			.updateTable('users')
+			.set({ active })
+			.where('id', '=', userId)
+			.where('active', '=', !active)
+			.returning('id')
+			.executeTakeFirst();
 		if (!r) return false;
 		let sessionsEnded = 0;
 		if (!active) {
@@ -204,7 +226,9 @@ export async function setActive(db: Db, userId: number, active: boolean, actor: 
 		});
 		return true;
 	});
-	return found ? { ok: true } : { ok: false, field: '_form', message: active ? 'This account is already active.' : 'This account is already deactivated.' };
+	return found
+		? { ok: true }
+		: { ok: false, field: '_form', message: active ? 'This account is already active.' : 'This account is already deactivated.' };
 }
 
 /** Changes one's own password; other sessions end (the current one stays). */
@@ -216,7 +240,8 @@ export async function changePassword(
 	ip: string | null
 ): Promise<{ ok: true; sessionsEnded: number } | Refusal> {
 	const u = await db.selectFrom('users').select(['id', 'password_hash']).where('id', '=', principal.userId!).executeTakeFirstOrThrow();
-	if (!(await verifyPassword(current, u.password_hash))) return { ok: false, field: 'current', message: 'This is not your current password.' };
+	if (!(await verifyPassword(current, u.password_hash)))
+		return { ok: false, field: 'current', message: 'This is not your current password.' };
 	const hash = await hashPassword(next);
 	const keep = principal.kind === 'session' ? principal.credentialId : undefined;
 	const sessionsEnded = await db.transaction().execute(async (trx) => {
@@ -261,7 +286,14 @@ export async function resetPassword(db: Db, token: string, password: string, ip:
 		await trx.updateTable('users').set({ password_hash: hash }).where('id', '=', holder.userId).execute();
 		const n = await endAllSessions(trx, holder.userId);
 		await expireLinks(trx, holder.userId, 'password-reset');
-		await recordAudit(trx, { action: 'password-reset', actor: null, actorUserId: holder.userId, subjectUserId: holder.userId, ip, detail: { sessions_ended: n } });
+		await recordAudit(trx, {
+			action: 'password-reset',
+			actor: null,
+			actorUserId: holder.userId,
+			subjectUserId: holder.userId,
+			ip,
+			detail: { sessions_ended: n }
+		});
 		return holder;
 	});
 	if (done) await clearAccountThrottle(db, done.email);
@@ -286,8 +318,21 @@ export async function acceptInvitation(
 			.where('id', '=', holder.userId)
 			.execute();
 		const session = await createSession(trx, holder.userId, client);
-		await recordAudit(trx, { action: 'invitation-accepted', actor: null, actorUserId: holder.userId, subjectUserId: holder.userId, ip: client.ip });
-		await recordAudit(trx, { action: 'sign-in', actor: null, actorUserId: holder.userId, subjectUserId: holder.userId, ip: client.ip, detail: { session: session.id } });
+		await recordAudit(trx, {
+			action: 'invitation-accepted',
+			actor: null,
+			actorUserId: holder.userId,
+			subjectUserId: holder.userId,
+			ip: client.ip
+		});
+		await recordAudit(trx, {
+			action: 'sign-in',
+			actor: null,
+			actorUserId: holder.userId,
+			subjectUserId: holder.userId,
+			ip: client.ip,
+			detail: { session: session.id }
+		});
 		return session;
 	});
 }

@@ -38,7 +38,11 @@ export interface NewSession {
 	expiresAt: Date;
 }
 
-export async function createSession(db: Db, userId: number, client: { ip?: string | null; userAgent?: string | null } = {}): Promise<NewSession> {
+export async function createSession(
+	db: Db,
+	userId: number,
+	client: { ip?: string | null; userAgent?: string | null } = {}
+): Promise<NewSession> {
 	const token = randomBytes(32).toString('base64url');
 	const expiresAt = new Date(Date.now() + config.sessionMaxHours * 3600_000);
 	const row = await db

@@ -50,7 +50,13 @@ export async function signInWithPassword(
 		return { ok: false, reason: 'invalid' };
 	}
 	if (!user.active) {
-		await recordAudit(db, { action: 'sign-in-failed', actor: null, subjectUserId: user.id, ip: input.ip, detail: { email, reason: 'deactivated' } });
+		await recordAudit(db, {
+			action: 'sign-in-failed',
+			actor: null,
+			subjectUserId: user.id,
+			ip: input.ip,
+			detail: { email, reason: 'deactivated' }
+		});
 		return { ok: false, reason: 'deactivated' };
 	}
 
@@ -63,7 +69,14 @@ export async function signInWithPassword(
 			.set({ last_sign_in_at: sql<Date>`now()` })
 			.where('id', '=', user.id)
 			.execute();
-		await recordAudit(trx, { action: 'sign-in', actor: null, actorUserId: user.id, subjectUserId: user.id, ip: input.ip, detail: { session: s.id } });
+		await recordAudit(trx, {
+			action: 'sign-in',
+			actor: null,
+			actorUserId: user.id,
+			subjectUserId: user.id,
+			ip: input.ip,
+			detail: { session: s.id }
+		});
 		return s;
 	});
 	return { ok: true, userId: user.id, session };

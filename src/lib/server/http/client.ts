@@ -3,11 +3,11 @@
 import type { RequestEvent } from '@sveltejs/kit';
 
 export function clientOf(event: Pick<RequestEvent, 'getClientAddress' | 'request'>): { ip: string | null; userAgent: string | null } {
-	let ip: string | null = null;
+	let ip: string | null;
 	try {
 		ip = event.getClientAddress().replace(/^::ffff:/, '');
 	} catch {
-		ip = null;
+		ip = null; // the adapter could not tell (misconfigured ADDRESS_HEADER)
 	}
 	return { ip, userAgent: event.request.headers.get('user-agent') };
 }

@@ -13,7 +13,12 @@ export function decodeCursor(cursor: string | null): Record<string, unknown> | n
 	} catch {
 		/* fall through */
 	}
-	throw new ApiError({ status: 400, type: 'invalid-cursor', detail: 'The cursor is not one this API gave out.', errors: [{ pointer: '#/query/cursor', detail: 'Unknown cursor.' }] });
+	throw new ApiError({
+		status: 400,
+		type: 'invalid-cursor',
+		detail: 'The cursor is not one this API gave out.',
+		errors: [{ pointer: '#/query/cursor', detail: 'Unknown cursor.' }]
+	});
 }
 
 /** `limit` query parameter: 1…max, default `def`. */
@@ -22,6 +27,10 @@ export function limitParam(url: URL, def: number, max: number): number {
 	if (raw === null) return def;
 	const n = Number(raw);
 	if (!Number.isInteger(n) || n < 1 || n > max)
-		throw new ApiError({ status: 400, detail: `limit must be a whole number from 1 to ${max}.`, errors: [{ pointer: '#/query/limit', detail: 'Out of range.' }] });
+		throw new ApiError({
+			status: 400,
+			detail: `limit must be a whole number from 1 to ${max}.`,
+			errors: [{ pointer: '#/query/limit', detail: 'Out of range.' }]
+		});
 	return n;
 }

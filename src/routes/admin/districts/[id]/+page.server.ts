@@ -27,7 +27,12 @@ function contactsFrom(form: FormData) {
 	return names
 		.map((name, i) => ({ name, title: titles[i] ?? '', email: emails[i] ?? '', phone: phones[i] ?? '' }))
 		.filter((c) => [c.name, c.title, c.email, c.phone].some((v) => v.trim() !== ''))
-		.map((c) => ({ name: c.name, email: c.email, ...(c.title.trim() ? { title: c.title } : {}), ...(c.phone.trim() ? { phone: c.phone } : {}) }));
+		.map((c) => ({
+			name: c.name,
+			email: c.email,
+			...(c.title.trim() ? { title: c.title } : {}),
+			...(c.phone.trim() ? { phone: c.phone } : {})
+		}));
 }
 
 export const actions = {

@@ -24,7 +24,8 @@ export const POST: RequestHandler = async (event) => {
 			detail: `Too many failed sign-ins; wait ${outcome.retryAfter} seconds before trying again.`,
 			headers: { 'retry-after': String(outcome.retryAfter) }
 		});
-	if (outcome.reason === 'deactivated') throw new ApiError({ status: 403, type: 'account-deactivated', detail: 'This account is deactivated.' });
+	if (outcome.reason === 'deactivated')
+		throw new ApiError({ status: 403, type: 'account-deactivated', detail: 'This account is deactivated.' });
 	throw new ApiError({
 		status: 401,
 		type: 'invalid-credentials',

@@ -21,22 +21,36 @@ export const GET: RequestHandler = async ({ locals, url }) => {
 	const limit = limitParam(url, 50, 200);
 	const cursor = decodeCursor(url.searchParams.get('cursor'));
 	const before = cursor ? Number(cursor.before) : undefined;
-	if (before !== undefined && !Number.isInteger(before)) throw new ApiError({ status: 400, type: 'invalid-cursor', detail: 'The cursor is not one this API gave out.' });
+	if (before !== undefined && !Number.isInteger(before))
+		throw new ApiError({ status: 400, type: 'invalid-cursor', detail: 'The cursor is not one this API gave out.' });
 	const { rows, nextBefore } = await listApiTokens(getDb(), { userId, before, limit });
-	const next = nextBefore === null ? null : `/api/v1/tokens?${new URLSearchParams({ cursor: encodeCursor({ before: nextBefore }), limit: String(limit) })}`;
+	const next =
+		nextBefore === null
+			? null
+			: `/api/v1/tokens?${new URLSearchParams({ cursor: encodeCursor({ before: nextBefore }), limit: String(limit) })}`;
 	return json({ items: rows.map(tokenJson), next });
 };
 
 export const POST: RequestHandler = async (event) => {
 	personId(event.locals.principal);
 	const body = await readJson(event.request, tokenCreateSchema);
-	const r = await createOwnToken(getDb(), event.locals.principal!, { name: body.name, scopes: body.scopes, expiresAt: body.expires_at }, clientOf(event).ip);
+	const r = await createOwnToken(
+		getDb(),
+		event.locals.principal!,
+		{ name: body.name, scopes: body.scopes, expiresAt: body.expires_at },
+		clientOf(event).ip
+	);
 	if (!r.ok) {
 		const errors =
 			r.field === 'scopes' && r.refused
 				? r.refused.map((s) => ({ pointer: `/scopes/${body.scopes.indexOf(s)}`, detail: `\`${s}\` is not a scope you can grant.` }))
 				: [{ pointer: `/${r.field === '_form' ? '' : r.field}`, detail: r.message }];
-		throw new ApiError({ status: r.field === '_form' ? 403 : 422, type: r.field === 'scopes' ? 'invalid-scope' : 'validation', detail: r.message, errors });
+		throw new ApiError({
+			status: r.field === '_form' ? 403 : 422,
+			type: r.field === 'scopes' ? 'invalid-scope' : 'validation',
+			detail: r.message,
+			errors
+		});
 	}
 	return json({ ...tokenJson(r.row), token: r.token }, { status: 201, headers: { location: `/api/v1/tokens/${r.id}` } });
 };
