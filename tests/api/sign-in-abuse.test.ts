@@ -82,6 +82,20 @@ describe('POST /api/v1/sessions', () => {
 		expect(row).toBeUndefined();
 	});
 
+	it('keys idle for more than a day are pruned when someone signs in', async () => {
+		await getDb()
+			.insertInto('sign_in_throttle')
+			.values([
+				{ key: 'account:sprayed@runnel.test', failures: 3, last_failure_at: new Date(Date.now() - 2 * 86_400_000) },
+				{ key: 'account:recent@runnel.test', failures: 3, last_failure_at: new Date() }
+			])
+			.execute();
+		expect((await apiSignIn(EMAIL, PASSWORD)).status).toBe(201);
+		const keys = (await getDb().selectFrom('sign_in_throttle').select('key').execute()).map((r) => r.key);
+		expect(keys).not.toContain('account:sprayed@runnel.test');
+		expect(keys).toContain('account:recent@runnel.test');
+	});
+
 	it('the wait grows: one more failure after the first wait doubles it', async () => {
 		for (let i = 0; i < 5; i++) await apiSignIn(EMAIL, 'wrong');
 		await getDb()

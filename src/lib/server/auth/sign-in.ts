@@ -6,7 +6,7 @@ import type { Database } from '../db/schema';
 import { recordAudit } from '../accounts/audit';
 import { verifyPassword } from './password';
 import { createSession, deleteExpiredSessions, type NewSession } from './sessions';
-import { accountKey, ipKey, releaseAttempt, reserveAttempt } from './throttle';
+import { accountKey, ipKey, pruneThrottle, releaseAttempt, reserveAttempt } from './throttle';
 
 export type SignInOutcome =
 	| { ok: true; userId: number; session: NewSession }
@@ -61,7 +61,9 @@ export async function signInWithPassword(
 	}
 
 	await releaseAttempt(db, account, address);
+	// Housekeeping rides on successful sign-ins: cheap, and often enough.
 	await deleteExpiredSessions(db);
+	await pruneThrottle(db);
 	const session = await db.transaction().execute(async (trx) => {
 		const s = await createSession(trx, user.id, { ip: input.ip, userAgent: input.userAgent });
 		await trx

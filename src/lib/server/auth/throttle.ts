@@ -61,3 +61,12 @@ export async function releaseAttempt(db: Kysely<Database>, account: string, ip: 
 export async function clearAccountThrottle(db: Kysely<Database>, email: string): Promise<void> {
 	await db.deleteFrom('sign_in_throttle').where('key', '=', accountKey(email)).execute();
 }
+
+/** Drops keys whose last failure is long past every policy's quiet window (sprayed e-mails pile up otherwise). */
+export async function pruneThrottle(db: Kysely<Database>): Promise<void> {
+	const longest = Math.max(ACCOUNT_POLICY.windowSeconds, IP_POLICY.windowSeconds);
+	await db
+		.deleteFrom('sign_in_throttle')
+		.where('last_failure_at', '<', new Date(Date.now() - 24 * longest * 1000))
+		.execute();
+}
