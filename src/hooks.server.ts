@@ -4,7 +4,9 @@ import { redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
 import { randomUUID } from 'node:crypto';
 import { authenticate } from '$lib/server/auth/authenticate';
-import { decide } from '$lib/server/auth/authorize';
+import { decide, decideDistrict } from '$lib/server/auth/authorize';
+import { districtIdByCode } from '$lib/server/accounts/districts';
+import { getDb } from '$lib/server/db';
 import { ruleFor } from '$lib/server/auth/permissions';
 import { ApiError, PROBLEM_CONTENT_TYPE, problemResponse, STATUS_TITLES } from '$lib/server/http/problem';
 import { applySecurityHeaders, csrfRefusal } from '$lib/server/http/security';
@@ -109,7 +111,11 @@ const auth: Handle = async ({ event, resolve }) => {
 			event.locals.requestId
 		);
 	}
-	const decision = decide(rule, result.principal);
+	let decision = decide(rule, result.principal);
+	if (decision.ok && rule.districtParam && result.principal?.districtId != null) {
+		const code = (event.params as Record<string, string | undefined>)[rule.districtParam];
+		decision = decideDistrict(rule, result.principal, code ? await districtIdByCode(getDb(), code) : null);
+	}
 	if (decision.ok) return resolve(event);
 
 	if (isApi(path)) {
@@ -134,6 +140,11 @@ const auth: Handle = async ({ event, resolve }) => {
 				event.locals.requestId
 			);
 		}
+		if (decision.reason === 'other_district')
+			return problemResponse(
+				{ status: 403, type: 'other-district', detail: 'This belongs to another district; your credentials reach only your own district.' },
+				event.locals.requestId
+			);
 		return problemResponse({ status: 403, detail: 'Your role may not use this resource.' }, event.locals.requestId);
 	}
 	if (decision.reason === 'unauthenticated') redirect(303, `/sign-in?next=${encodeURIComponent(path + event.url.search)}`);

@@ -11,7 +11,12 @@ export const NAV: NavItem[] = [
 	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
 	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] },
 	{ href: '/admin/oauth-clients', label: 'OAuth clients', roles: ['admin'] },
-	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] }
+	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] },
+	// accounts (admin); everyone's own account page is linked from the header, beside their name
+	{ href: '/admin/users', label: 'Users', roles: ['admin'] },
+	{ href: '/admin/districts', label: 'Districts', roles: ['admin'] },
+	{ href: '/admin/tokens', label: 'API tokens', roles: ['admin'] },
+	{ href: '/admin/audit', label: 'Audit log', roles: ['admin'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

@@ -1,5 +1,6 @@
 import { error } from '@sveltejs/kit';
 import { APP_VERSION } from '$lib/version';
+import { config } from '$lib/server/config';
 import type { LayoutServerLoad } from './$types';
 
 export const load = (async ({ locals }) => {
@@ -7,6 +8,7 @@ export const load = (async ({ locals }) => {
 	const p = locals.principal;
 	return {
 		version: APP_VERSION,
+		timeZone: config.timeZone,
 		user: p ? { name: p.name, email: p.email, role: p.role, districtId: p.districtId } : null
 	};
 }) satisfies LayoutServerLoad;

@@ -19,12 +19,14 @@ export function appHandler(): Promise<Handler> {
 	return handlerPromise;
 }
 
-/** Starts the built app on a free loopback port; returns its origin and a close function. */
+/**
+ * Starts the built app on a free loopback port; returns its origin and a close function. When it is the
+ * first to load the app in this test file, it sets ORIGIN to that port (adapter-node reads ORIGIN once,
+ * at import), so same-origin form posts pass SvelteKit's CSRF check and mailed links point at it.
+ */
 export async function startApp(): Promise<{ origin: string; close: () => Promise<void> }> {
-	// Form posts must come from the app's own ORIGIN (CSRF check), and adapter-node reads ORIGIN once, on
-	// import: when this process has not loaded the app yet, choose the port first and make it the ORIGIN.
 	let port = 0;
-	if (!handlerPromise && !process.env.ORIGIN) {
+	if (!handlerPromise) {
 		port = await freePort();
 		process.env.ORIGIN = `http://127.0.0.1:${port}`;
 	}

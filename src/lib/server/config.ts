@@ -14,6 +14,22 @@ export const config = {
 	get origin(): string {
 		return process.env.ORIGIN ?? 'http://127.0.0.1:3000';
 	},
+	/** Cookies are `Secure` (and `__Host-` prefixed) when the public origin is https. */
+	get secureCookies(): boolean {
+		return this.origin.startsWith('https:');
+	},
+	/** A session ends after this many minutes without a request… */
+	get sessionIdleMinutes(): number {
+		return Number(process.env.SESSION_IDLE_MINUTES ?? 8 * 60);
+	},
+	/** …and in any case this many hours after sign-in. */
+	get sessionMaxHours(): number {
+		return Number(process.env.SESSION_MAX_HOURS ?? 7 * 24);
+	},
+	/** The time zone pages show times in (the hub's state; Iowa by default). */
+	get timeZone(): string {
+		return process.env.HUB_TIME_ZONE ?? 'America/Chicago';
+	},
 	get maxUploadBytes(): number {
 		return Number(process.env.MAX_UPLOAD_MB ?? 50) * 1024 * 1024;
 	},

@@ -1,9 +1,10 @@
-// Reads the caller's credentials once per request: `Authorization: Bearer …` (personal API token,
-// or a JWT access token of an OAuth client).
+// Reads the caller's credentials once per request: `Authorization: Bearer …` (personal API token, or a
+// JWT access token of an OAuth client) first, else the session cookie of a signed-in browser.
 import type { RequestEvent } from '@sveltejs/kit';
 import { getDb } from '../db';
 import { looksLikeJwt, principalFromAccessToken } from './access-tokens';
 import type { Principal } from './principal';
+import { clearSessionCookie, principalFromSession, sessionCookieName } from './sessions';
 import { principalFromApiToken, TOKEN_PREFIX } from './tokens';
 
 export type AuthResult = { principal: Principal | null; badCredentials: boolean };
@@ -22,6 +23,13 @@ export async function authenticate(event: RequestEvent): Promise<AuthResult> {
 		}
 		const principal = await principalFromApiToken(getDb(), m[1]);
 		return { principal, badCredentials: principal === null };
+	}
+	const cookie = event.cookies.get(sessionCookieName());
+	if (cookie) {
+		const principal = await principalFromSession(getDb(), cookie);
+		// An ended session is not an error: the browser is simply signed out again.
+		if (!principal) clearSessionCookie(event.cookies);
+		return { principal, badCredentials: false };
 	}
 	return { principal: null, badCredentials: false };
 }

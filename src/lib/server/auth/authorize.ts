@@ -6,7 +6,8 @@ export type Decision =
 	| { ok: true }
 	| { ok: false; reason: 'unauthenticated' }
 	| { ok: false; reason: 'insufficient_scope'; scope: string }
-	| { ok: false; reason: 'forbidden_role' };
+	| { ok: false; reason: 'forbidden_role' }
+	| { ok: false; reason: 'other_district' };
 
 export function decide(rule: Access, principal: Principal | null): Decision {
 	switch (rule.kind) {
@@ -26,4 +27,13 @@ export function decide(rule: Access, principal: Principal | null): Decision {
 			if (!principal) return { ok: false, reason: 'unauthenticated' };
 			return rule.roles.includes(principal.role) ? { ok: true } : { ok: false, reason: 'forbidden_role' };
 	}
+}
+
+/**
+ * For a route whose path names a district (`rule.districtParam`): a principal bound to a district may
+ * only use its own. `paramDistrictId` is the id of the district the path names (null: no such district).
+ */
+export function decideDistrict(rule: Access, principal: Principal | null, paramDistrictId: number | null): Decision {
+	if (!rule.districtParam || !principal || principal.districtId === null) return { ok: true };
+	return paramDistrictId === principal.districtId ? { ok: true } : { ok: false, reason: 'other_district' };
 }

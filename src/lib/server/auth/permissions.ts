@@ -3,15 +3,24 @@
 // tests/api/authz-matrix.test.ts walks it against every route file, so a new route cannot skip it.
 //
 // Pages: GET is the page view (its load), POST its form actions. District-only-own-data rules are
-// enforced in the queries (a district principal always filters by its own district).
+// enforced in the queries (a district principal always filters by its own district); a route whose
+// path names a district (`…/districts/[code]/…`) says so with `ownDistrict(rule, 'code')`, and the
+// hooks refuse a principal bound to another district before the route runs.
+//
+// Pages that change things for admins use the `admin` scope rather than the role, so an admin's
+// token created without the `admin` scope cannot reach them either.
 import type { Role, Scope } from '$lib/domain/scopes';
 
-export type Access =
+export type Access = (
 	| { kind: 'public' }
 	| { kind: 'signed-in' }
 	| { kind: 'scope'; scope: Scope }
 	| { kind: 'any-scope'; scopes: Scope[] }
-	| { kind: 'roles'; roles: Role[] };
+	| { kind: 'roles'; roles: Role[] }
+) & {
+	/** Route parameter holding a district code: a principal bound to a district may only use its own. */
+	districtParam?: string;
+};
 
 export type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE';
 export type RouteRules = Partial<Record<Method, Access>>;
@@ -22,29 +31,52 @@ const scope = (s: Scope): Access => ({ kind: 'scope', scope: s });
 const roles = (...r: Role[]): Access => ({ kind: 'roles', roles: r });
 /** Any one of these scopes will do. */
 const anyScope = (...s: Scope[]): Access => ({ kind: 'any-scope', scopes: s });
+const ownDistrict = (a: Access, param: string): Access => ({ ...a, districtParam: param });
+const adminOnly = scope('admin');
 
 export const PERMISSIONS: Record<string, RouteRules> = {
 	// --- pages ---
 	'/': { GET: publicAccess },
-	'/methods': { GET: signedIn, POST: roles('admin') },
-	'/methods/new': { GET: roles('admin'), POST: roles('admin') },
-	'/admin/outbox': { GET: roles('admin') },
-	'/admin/outbox/[id]': { GET: roles('admin'), POST: roles('admin') },
-	'/admin/oauth-clients': { GET: roles('admin'), POST: roles('admin') },
 	'/.well-known/jwks.json': { GET: publicAccess },
+
+	// accounts
+	'/sign-in': { GET: publicAccess, POST: publicAccess },
+	'/sign-out': { POST: publicAccess },
+	'/forgot-password': { GET: publicAccess, POST: publicAccess },
+	'/reset-password/[token]': { GET: publicAccess, POST: publicAccess },
+	'/accept-invitation/[token]': { GET: publicAccess, POST: publicAccess },
+	'/account': { GET: signedIn, POST: signedIn },
+	'/admin/users': { GET: adminOnly, POST: adminOnly },
+	'/admin/users/[id]': { GET: adminOnly, POST: adminOnly },
+	'/admin/districts': { GET: adminOnly, POST: adminOnly },
+	'/admin/districts/[id]': { GET: adminOnly, POST: adminOnly },
+	'/admin/tokens': { GET: adminOnly, POST: adminOnly },
+	'/admin/audit': { GET: adminOnly },
+	'/admin/outbox': { GET: adminOnly },
+	'/admin/outbox/[id]': { GET: adminOnly, POST: adminOnly },
+	'/admin/oauth-clients': { GET: adminOnly, POST: adminOnly },
+
+	// reduction methods
+	'/methods': { GET: signedIn, POST: adminOnly },
+	'/methods/new': { GET: adminOnly, POST: adminOnly },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
 	'/api/v1/me': { GET: signedIn },
-	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: scope('admin') },
-	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
-	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: scope('admin') },
+	'/api/v1/sessions': { POST: publicAccess },
+	'/api/v1/tokens': { GET: signedIn, POST: signedIn },
+	'/api/v1/tokens/[id]': { DELETE: signedIn },
+	'/api/v1/districts': { GET: scope('records:read') },
+	'/api/v1/districts/[code]': { GET: ownDistrict(scope('records:read'), 'code') },
 	// OAuth client credentials: the client authenticates inside the request (RFC 6749 §2.3.1).
-	'/api/v1/oauth/token': { POST: publicAccess }
+	'/api/v1/oauth/token': { POST: publicAccess },
+	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: adminOnly },
+	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
+	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: adminOnly }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
-export const access = { public: publicAccess, signedIn, scope, anyScope, roles };
+export const access = { public: publicAccess, signedIn, scope, anyScope, roles, ownDistrict };
 
 export function ruleFor(routeId: string, method: string): Access | undefined {
 	const rules = PERMISSIONS[routeId];

@@ -67,6 +67,7 @@ export interface UsersTable {
 	password_hash: string | null;
 	active: Generated<boolean>;
 	created_at: Generated<Date>;
+	last_sign_in_at: Timestamp | null;
 }
 
 export interface ApiTokensTable {
@@ -187,6 +188,48 @@ export interface ReductionMethodsTable {
 	created_at: Generated<Date>;
 }
 
+// --- accounts: sessions, one-time links, sign-in throttle, audit log --------------------------------
+export interface SessionsTable {
+	id: Generated<string>;
+	user_id: number;
+	token_hash: string;
+	created_at: Generated<Date>;
+	last_seen_at: Generated<Date>;
+	expires_at: Timestamp;
+	ip: string | null;
+	user_agent: string | null;
+}
+
+export type AccountLinkPurpose = 'invitation' | 'password-reset';
+
+export interface AccountLinksTable {
+	id: Generated<string>;
+	user_id: number;
+	purpose: AccountLinkPurpose;
+	token_hash: string;
+	expires_at: Timestamp;
+	used_at: Timestamp | null;
+	created_by: number | null;
+	created_at: Generated<Date>;
+}
+
+export interface SignInThrottleTable {
+	key: string;
+	failures: Generated<number>;
+	last_failure_at: Timestamp;
+}
+
+export interface AuditLogTable {
+	id: Generated<string>;
+	at: Generated<Date>;
+	action: string;
+	actor: string;
+	actor_user_id: number | null;
+	subject_user_id: number | null;
+	ip: string | null;
+	detail: ColumnType<Record<string, unknown>, string | undefined, string>;
+}
+
 export interface Database {
 	settings: SettingsTable;
 	counties: CountiesTable;
@@ -202,6 +245,10 @@ export interface Database {
 	mail_received: MailReceivedTable;
 	signing_keys: SigningKeysTable;
 	oauth_clients: OAuthClientsTable;
+	sessions: SessionsTable;
+	account_links: AccountLinksTable;
+	sign_in_throttle: SignInThrottleTable;
+	audit_log: AuditLogTable;
 }
 
 export type District = Selectable<DistrictsTable>;
@@ -218,3 +265,5 @@ export type MailMessage = Selectable<MailMessagesTable>;
 export type MailReceived = Selectable<MailReceivedTable>;
 export type SigningKey = Selectable<SigningKeysTable>;
 export type OAuthClient = Selectable<OAuthClientsTable>;
+export type Session = Selectable<SessionsTable>;
+export type AuditEntry = Selectable<AuditLogTable>;
