@@ -19,10 +19,17 @@ const roles = (...r: Role[]): Access => ({ kind: 'roles', roles: r });
 export const PERMISSIONS: Record<string, RouteRules> = {
 	// --- pages ---
 	'/': { GET: publicAccess },
+	'/schema': { GET: publicAccess },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
-	'/api/v1/me': { GET: signedIn }
+	'/api/v1/me': { GET: signedIn },
+	'/api/v1/openapi.json': { GET: publicAccess },
+	'/api/v1/schema/practice-record.json': { GET: publicAccess },
+	'/api/v1/schema/practice-record.csv': { GET: publicAccess },
+	'/api/v1/schema/practice-record.xlsx': { GET: publicAccess },
+	'/api/docs': { GET: publicAccess },
+	'/api/docs/[asset]': { GET: publicAccess }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
