@@ -16,7 +16,8 @@ export const NAV: NavItem[] = [
 	{ href: '/admin/users', label: 'Users', roles: ['admin'] },
 	{ href: '/admin/districts', label: 'Districts', roles: ['admin'] },
 	{ href: '/admin/tokens', label: 'API tokens', roles: ['admin'] },
-	{ href: '/admin/audit', label: 'Audit log', roles: ['admin'] }
+	{ href: '/admin/audit', label: 'Audit log', roles: ['admin'] },
+	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

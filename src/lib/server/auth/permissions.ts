@@ -59,6 +59,7 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	// reduction methods
 	'/methods': { GET: signedIn, POST: adminOnly },
 	'/methods/new': { GET: adminOnly, POST: adminOnly },
+	'/schema': { GET: publicAccess },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -72,7 +73,13 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/oauth/token': { POST: publicAccess },
 	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: adminOnly },
 	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
-	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: adminOnly }
+	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: adminOnly },
+	'/api/v1/openapi.json': { GET: publicAccess },
+	'/api/v1/schema/practice-record.json': { GET: publicAccess },
+	'/api/v1/schema/practice-record.csv': { GET: publicAccess },
+	'/api/v1/schema/practice-record.xlsx': { GET: publicAccess },
+	'/api/docs': { GET: publicAccess },
+	'/api/docs/[asset]': { GET: publicAccess }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
