@@ -211,7 +211,7 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 			for await (const ev of readRows(guarded, batch.format, { sheet: batch.sheet ?? undefined })) {
 				if (ev.kind === 'source') tally.encoding = ev.encoding ?? null;
 				else if (ev.kind === 'header') {
-					for (const f of checker.header(ev.columns)) await addFinding(f);
+					for (const f of checker.header(ev.columns, ev.row)) await addFinding(f);
 				} else if (ev.kind === 'finding') {
 					// With a row number: a row that could not be read at all (it counts as a rejected row).
 					if (ev.finding.row !== null) tally.rows++;
