@@ -1,17 +1,29 @@
 // The intake paths: batches (uploads), their findings, and practice records.
 import { z } from 'zod';
 import { BATCH_MODES, BATCH_STATUSES, Batch, BatchFindingPage, BatchPage } from '../batch';
-import { RecordDetail, RecordPage, RecordWriteResult } from '../record-api';
+import { RecordDetail, RecordPage, RecordSummary, RecordWriteResult } from '../record-api';
 import { problems } from './common';
 import { needsToken, registry } from './registry';
 import { practiceRecordRef } from './schema-routes';
 
+// `.meta()` makes copies created after the OpenAPI extension of zod (./registry.ts): the originals in
+// ../batch.ts and ../record-api.ts may be built first (the browser uses them too) and lack `.openapi`.
 const BatchSchema = registry.register('Batch', Batch.meta({ description: 'One upload and what became of it.' }));
-const BatchPageSchema = registry.register('BatchPage', BatchPage);
-const BatchFindingPageSchema = registry.register('BatchFindingPage', BatchFindingPage);
-const RecordPageSchema = registry.register('RecordPage', RecordPage);
-const RecordDetailSchema = registry.register('RecordDetail', RecordDetail);
-const RecordWriteResultSchema = registry.register('RecordWriteResult', RecordWriteResult);
+const BatchPageSchema = registry.register(
+	'BatchPage',
+	BatchPage.extend({ data: z.array(BatchSchema) }).meta({ description: 'A page of batches, newest first.' })
+);
+const BatchFindingPageSchema = registry.register('BatchFindingPage', BatchFindingPage.meta({ description: 'A page of findings.' }));
+const RecordSummarySchema = registry.register('RecordSummary', RecordSummary.meta({ description: 'A practice record in a list.' }));
+const RecordPageSchema = registry.register(
+	'RecordPage',
+	RecordPage.extend({ data: z.array(RecordSummarySchema) }).meta({ description: 'A page of practice records.' })
+);
+const RecordDetailSchema = registry.register('RecordDetail', RecordDetail.meta({ description: 'One practice record with its versions.' }));
+const RecordWriteResultSchema = registry.register(
+	'RecordWriteResult',
+	RecordWriteResult.meta({ description: 'What a PUT of one record did, the record now, and its warnings.' })
+);
 
 const XLSX = 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet';
 const page = {
