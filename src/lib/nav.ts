@@ -17,6 +17,8 @@ export const NAV: NavItem[] = [
 	{ href: '/admin/districts', label: 'Districts', roles: ['admin'] },
 	{ href: '/admin/tokens', label: 'API tokens', roles: ['admin'] },
 	{ href: '/admin/audit', label: 'Audit log', roles: ['admin'] },
+	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
+	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
 	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] }
 ];
 

@@ -59,6 +59,10 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	// reduction methods
 	'/methods': { GET: signedIn, POST: adminOnly },
 	'/methods/new': { GET: adminOnly, POST: adminOnly },
+	'/batches': { GET: roles('district', 'manager', 'admin') },
+	'/batches/[id]': { GET: roles('district', 'manager', 'admin') },
+	'/records': { GET: roles('district', 'manager', 'admin') },
+	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
 	'/schema': { GET: publicAccess },
 
 	// --- API ---
@@ -74,6 +78,12 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: adminOnly },
 	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
 	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: adminOnly },
+	'/api/v1/batches': { GET: scope('records:read'), POST: scope('records:write') },
+	'/api/v1/batches/[id]': { GET: scope('records:read') },
+	'/api/v1/batches/[id]/findings': { GET: scope('records:read') },
+	'/api/v1/records': { GET: scope('records:read') },
+	'/api/v1/records/[id]': { GET: scope('records:read') },
+	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') },
 	'/api/v1/openapi.json': { GET: publicAccess },
 	'/api/v1/schema/practice-record.json': { GET: publicAccess },
 	'/api/v1/schema/practice-record.csv': { GET: publicAccess },

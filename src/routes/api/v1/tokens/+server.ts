@@ -6,7 +6,8 @@ import { tokenJson } from '$lib/server/accounts/api-json';
 import { createOwnToken, listApiTokens } from '$lib/server/accounts/api-tokens';
 import { getDb } from '$lib/server/db';
 import { clientOf } from '$lib/server/http/client';
-import { decodeCursor, encodeCursor, limitParam } from '$lib/server/http/cursor';
+import { z } from 'zod';
+import { decodeCursor, encodeCursor, pageLimit } from '$lib/server/http/cursor';
 import { readJson } from '$lib/server/http/json-body';
 import { ApiError } from '$lib/server/http/problem';
 import type { RequestHandler } from './$types';
@@ -18,11 +19,9 @@ function personId(p: App.Locals['principal']): number {
 
 export const GET: RequestHandler = async ({ locals, url }) => {
 	const userId = personId(locals.principal);
-	const limit = limitParam(url, 50, 200);
-	const cursor = decodeCursor(url.searchParams.get('cursor'));
-	const before = cursor ? Number(cursor.before) : undefined;
-	if (before !== undefined && !Number.isInteger(before))
-		throw new ApiError({ status: 400, type: 'invalid-cursor', detail: 'The cursor is not one this API gave out.' });
+	const limit = pageLimit(url, 50, 200);
+	const cursor = decodeCursor(url.searchParams.get('cursor'), z.object({ before: z.number().int() }));
+	const before = cursor?.before;
 	const { rows, nextBefore } = await listApiTokens(getDb(), { userId, before, limit });
 	const next =
 		nextBefore === null
