@@ -7,7 +7,10 @@ export interface NavItem {
 	roles: readonly Role[];
 }
 
-export const NAV: NavItem[] = [{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] }];
+export const NAV: NavItem[] = [
+	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
+	{ href: '/dashboard', label: 'Dashboard', roles: ['admin', 'manager', 'district'] }
+];
 
 export function navFor(role: Role | null): NavItem[] {
 	return role ? NAV.filter((i) => i.roles.includes(role)) : [];

@@ -1,10 +1,11 @@
 // Background services that run inside the app process: started once by the `init` hook,
 // stopped on adapter-node's `sveltekit:shutdown` event. Each area registers its service here.
 import { logger } from './log';
+import { rollupService } from './rollups/service';
 
 type Service = { name: string; start: () => Promise<void> | void; stop: () => Promise<void> | void };
 
-const services: Service[] = [];
+const services: Service[] = [rollupService];
 let started = false;
 
 export async function startServices(): Promise<void> {

@@ -19,10 +19,12 @@ const roles = (...r: Role[]): Access => ({ kind: 'roles', roles: r });
 export const PERMISSIONS: Record<string, RouteRules> = {
 	// --- pages ---
 	'/': { GET: publicAccess },
+	'/dashboard': { GET: roles('admin', 'manager', 'district') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
-	'/api/v1/me': { GET: signedIn }
+	'/api/v1/me': { GET: signedIn },
+	'/api/v1/rollups': { GET: scope('rollups:read') }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
