@@ -19,11 +19,17 @@ export function niceStep(raw: number): number {
  * (previous bound, bound]). Empty when no value is above 0.
  */
 export function classBreaks(values: readonly number[], classes: number = MAP_PALETTE.length): number[] {
-	const max = Math.max(0, ...values.filter((v) => Number.isFinite(v)));
-	if (max <= 0) return [];
-	const step = niceStep(max / classes);
-	const n = Math.max(1, Math.ceil(max / step - 1e-9));
-	return Array.from({ length: Math.min(n, classes) }, (_, i) => (i === Math.min(n, classes) - 1 ? Math.max(step * (i + 1), max) : step * (i + 1)));
+	const positive = values.filter((v) => Number.isFinite(v) && v > 0);
+	if (positive.length === 0) return [];
+	const max = Math.max(...positive);
+	// Never more classes than distinct values (one county alone gets one class).
+	const wanted = Math.max(1, Math.min(classes, new Set(positive).size));
+	const step = niceStep(max / wanted);
+	const n = Math.min(wanted, Math.max(1, Math.ceil(max / step - 1e-9)));
+	return Array.from({ length: n }, (_, i) => {
+		const b = Number((step * (i + 1)).toPrecision(12));
+		return i === n - 1 ? Math.max(b, max) : b;
+	});
 }
 
 /** Index of the class a value falls in, or -1 for no data / zero. */
