@@ -41,7 +41,9 @@ const command = fc.oneof(
 	})
 );
 
-function toRecord(localId: string, r: fc.RecordValue<typeof arbRecord> extends infer T ? T : never): TestRecord {
+type ArbRecord = typeof arbRecord extends fc.Arbitrary<infer T> ? T : never;
+
+function toRecord(localId: string, r: ArbRecord): TestRecord {
 	const edge = ['554', '604', '605', '656'].includes(r.practice_code);
 	return {
 		local_id: localId,
@@ -103,7 +105,7 @@ describe('incremental maintenance = full rebuild', () => {
 
 	it('the summary is never read from the records: cells stay as stored when records change behind the hook', async () => {
 		const districtId = await createDistrict(db, 'RTQ', 'Rollup direct-write district', 'Rollup Test Region', COUNTIES);
-		const [id] = await insertRecords(db, districtId, [toRecord('Q1', { practice_code: '605', county_fips: '19001', installed_on: '2024-09-01', acres: 50, field_id: null, operation_id: 'q', huc12: null, cost: 100 })]);
+		const [id] = await insertRecords(db, districtId, [toRecord('Q1', { practice_code: '605', county_fips: '19001', installed_on: '2024-09-01', acres: 50, field_id: null, operation_id: 'op-a', huc12: null, cost: 100 })]);
 		const before = await snapshot(districtId);
 		// A write that skips the hook (not how the app writes): the summary does not move until a rebuild.
 		await db.updateTable('records').set({ drainage_area_acres: 500 }).where('id', '=', id).execute();

@@ -373,7 +373,7 @@ describe('exports', () => {
 		expect(res.status).toBe(200);
 		expect(res.headers['content-type']).toBe('application/vnd.openxmlformats-officedocument.spreadsheetml.sheet');
 		const wb = new ExcelJS.Workbook();
-		await wb.xlsx.load(res.body as Buffer);
+		await wb.xlsx.load(res.body as unknown as ArrayBuffer);
 		expect(wb.worksheets.map((w) => w.name)).toEqual(['By FY, county, practice', 'By FY', 'Method and sources', 'Notes']);
 		for (const [i, ws] of wb.worksheets.slice(0, 2).entries()) {
 			expect(ws.views[0]).toMatchObject({ state: 'frozen', ySplit: 1 });

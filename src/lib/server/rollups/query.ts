@@ -22,9 +22,10 @@ interface Lookups {
 	districts: Map<number, { code: string; name: string; region: string }>;
 }
 
-async function lookups(db: Kysely<Database>): Promise<Lookups> {
+/** Names for the answer: practices and districts (short lists) and the counties of the hub state. */
+async function lookups(db: Kysely<Database>, stateFips: string): Promise<Lookups> {
 	const [counties, practices, districts] = await Promise.all([
-		db.selectFrom('counties').select(['fips', 'name']).execute(),
+		db.selectFrom('counties').select(['fips', 'name']).where('state_fips', '=', stateFips).execute(),
 		db.selectFrom('practices').select(['code', 'name']).execute(),
 		db.selectFrom('districts').select(['id', 'code', 'name', 'region']).execute()
 	]);
@@ -179,7 +180,7 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 			errors: [{ pointer: '#/query/method', detail: 'Unknown method version.' }]
 		});
 	}
-	const settings = await readSettings(db, [SETTING_KEYS.stateFyStartMonth, SETTING_KEYS.smallCellK]);
+	const settings = await readSettings(db, [SETTING_KEYS.stateFyStartMonth, SETTING_KEYS.smallCellK, SETTING_KEYS.hubStateFips]);
 	const startMonth = stateFyStartMonthOf(settings.get(SETTING_KEYS.stateFyStartMonth));
 	const k = smallCellKOf(settings.get(SETTING_KEYS.smallCellK));
 	const researcher = principal.role === 'researcher';
@@ -220,7 +221,7 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 
 	const fy = q.fy ?? defaultFyRange(q.fy_basis, startMonth);
 	const src: CellSource = { methodVersion: version, fyBasis: q.fy_basis, basis: q.basis, fy, districtId, county: q.county, practice: q.practice };
-	const names = await lookups(db);
+	const names = await lookups(db, String(settings.get(SETTING_KEYS.hubStateFips) ?? '19').padStart(2, '0'));
 	let smallCells: SmallCellCounts | null = null;
 	const groupings: RollupResponse['groupings'] = [];
 
