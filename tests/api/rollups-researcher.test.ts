@@ -16,15 +16,18 @@ const db = getDb();
 let north = 0;
 let south = 0;
 let southB = 0;
+let savedK: unknown;
 
 beforeAll(async () => {
 	await rebuildMethod(db, await getActiveMethodVersion(db));
+	savedK = (await db.selectFrom('settings').select('value').where('key', '=', 'small_cell_k').executeTakeFirst())?.value;
 	north = await createDistrict(db, 'RTN', 'Rollup researcher district North', 'RT North', ['19109', '19063']);
 	south = await createDistrict(db, 'RTS', 'Rollup researcher district South', 'RT South', ['19001', '19003']);
 	southB = await createDistrict(db, 'RTS2', 'Rollup researcher district South 2', 'RT South', ['19005']);
 });
 afterAll(async () => {
-	await db.deleteFrom('settings').where('key', '=', 'small_cell_k').execute();
+	if (savedK === undefined) await db.deleteFrom('settings').where('key', '=', 'small_cell_k').execute();
+	else await db.updateTable('settings').set({ value: JSON.stringify(savedK) }).where('key', '=', 'small_cell_k').execute();
 	await closeDb();
 });
 

@@ -11,6 +11,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb, getDb } from '$lib/server/db';
 import { createMethod, getMethod, setActiveMethod } from '$lib/server/methods';
 import { rebuildMethod } from '$lib/server/rollups/refresh';
+import { hashToken } from '$lib/server/auth/tokens';
 import { DEFAULT_METHOD, type ReductionMethod } from '$lib/domain/reduction-method';
 import { appHandler, bearer, DEMO_TOKENS } from '../helpers/app';
 import { createDistrict, createTokenUser, insertRecords, updateRecords, type TestRecord } from '../helpers/rollup-fixtures';
@@ -71,7 +72,7 @@ beforeAll(async () => {
 	await createTokenUser(db, 'rollups-a@runnel.test', 'district', districtA, TOKEN_A);
 	await createTokenUser(db, 'rollups-b@runnel.test', 'district', districtB, TOKEN_B);
 	const noScope = await createTokenUser(db, 'rollups-noscope@runnel.test', 'district', districtA, TOKEN_NO_SCOPE);
-	await db.updateTable('api_tokens').set({ scopes: ['records:read'] }).where('display_prefix', '=', noScope.slice(0, 8)).execute();
+	await db.updateTable('api_tokens').set({ scopes: ['records:read'] }).where('token_hash', '=', hashToken(noScope)).execute();
 	const inserted = await insertRecords(db, districtA, RECORDS);
 	ids = Object.fromEntries(RECORDS.map((r, i) => [r.local_id, inserted[i]]));
 	await insertRecords(db, districtB, [

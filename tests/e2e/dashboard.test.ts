@@ -5,7 +5,7 @@ import { closeDb, getDb } from '$lib/server/db';
 import { getActiveMethodVersion } from '$lib/server/methods';
 import { rebuildMethod } from '$lib/server/rollups/refresh';
 import { DEMO_TOKENS, startApp } from '../helpers/app';
-import { foreignRequests, launch, screenshot, seriousA11yViolations, type Browser } from '../helpers/browser';
+import { foreignRequests, launch, screenshot, SCREENSHOTS, seriousA11yViolations, type Browser } from '../helpers/browser';
 import { createDistrict, createTokenUser, insertRecords, type TestRecord } from '../helpers/rollup-fixtures';
 
 let app: Awaited<ReturnType<typeof startApp>>;
@@ -101,13 +101,19 @@ describe('dashboard', () => {
 		expect(xlsx).toMatch(/format=xlsx/);
 		expect(xlsx).toMatch(/basis=in_service/);
 
+		// Progress toward the demo goal (seeded in demo mode, labelled as a demo value).
+		await page.getByText(/Progress toward the state goal/).waitFor();
+		await expect(page.getByText(/a demo value, not a published target/).isVisible()).resolves.toBe(true);
+
 		expect(foreignRequests(browser.requests)).toEqual([]);
 		expect(await seriousA11yViolations(page)).toEqual([]);
 		await screenshot(page, 'dashboard-manager');
+		await page.evaluate(() => window.scrollTo(0, 0));
+		await page.screenshot({ path: `${SCREENSHOTS}/dashboard-manager-top.png` });
 
 		// Changing a filter fetches again; a practice with nothing counted shows the empty state.
 		const before = apiCalls.length;
-		await page.getByLabel('Practice').selectOption('657');
+		await page.getByLabel('Practice', { exact: true }).selectOption('657');
 		await page.getByText(/No practices are counted for these filters/).waitFor();
 		expect(apiCalls.length).toBeGreaterThan(before);
 		await page.close();

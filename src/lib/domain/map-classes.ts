@@ -1,35 +1,42 @@
-// Classes for a choropleth map: equal intervals on "nice" round numbers (1, 2, 2.5 or 5 × 10^n), so the
-// legend reads 0–500, 500–1,000, … A value of 0 or no data stays out of the classes (drawn apart).
-// Runnel's own sequential palette, light to dark, from the theme's creek colours (tailwind.config.ts).
+// Classes for a choropleth map: quantile classes (about as many counties in each), with each bound rounded
+// up to two significant figures so the legend reads 0–1,300, 1,300–2,500, … A value of 0 or no data stays
+// out of the classes (drawn apart). Runnel's own sequential palette, light to dark, from the theme's creek
+// colours (tailwind.config.ts).
 
 export const MAP_PALETTE = ['#d5ebee', '#aed8de', '#7dbcc6', '#4a98a6', '#246473', '#162f37'] as const;
 export const NO_DATA_COLOUR = '#eeede9';
 
-/** The smallest nice step ≥ raw. */
-export function niceStep(raw: number): number {
-	if (!(raw > 0) || !Number.isFinite(raw)) return 1;
-	const exp = Math.floor(Math.log10(raw));
-	const base = 10 ** exp;
-	for (const m of [1, 2, 2.5, 5, 10]) if (m * base >= raw - 1e-9 * base) return m * base;
-	return 10 * base;
+/** Rounds up to two significant figures (1234 → 1300, 0.0456 → 0.046, 95 → 95). */
+export function roundUp2(x: number): number {
+	if (!(x > 0) || !Number.isFinite(x)) return 0;
+	const exp = Math.floor(Math.log10(x)) - 1;
+	const f = 10 ** exp;
+	return Number((Math.ceil(x / f - 1e-9) * f).toPrecision(12));
+}
+
+/** The q-quantile (0–1) of sorted values, by linear interpolation between closest ranks. */
+export function quantile(sorted: readonly number[], q: number): number {
+	if (sorted.length === 0) return NaN;
+	const pos = (sorted.length - 1) * q;
+	const lo = Math.floor(pos);
+	const hi = Math.ceil(pos);
+	return sorted[lo] + (sorted[hi] - sorted[lo]) * (pos - lo);
 }
 
 /**
- * Upper bounds of `classes` equal intervals from 0 covering the largest value (each class is
- * (previous bound, bound]). Empty when no value is above 0.
+ * Upper bounds of the classes (each class is (previous bound, bound], the first starts at 0), at most
+ * `classes` of them and never more than the distinct values above 0. Empty when no value is above 0.
  */
 export function classBreaks(values: readonly number[], classes: number = MAP_PALETTE.length): number[] {
-	const positive = values.filter((v) => Number.isFinite(v) && v > 0);
+	const positive = values.filter((v) => Number.isFinite(v) && v > 0).sort((a, b) => a - b);
 	if (positive.length === 0) return [];
-	const max = Math.max(...positive);
-	// Never more classes than distinct values (one county alone gets one class).
 	const wanted = Math.max(1, Math.min(classes, new Set(positive).size));
-	const step = niceStep(max / wanted);
-	const n = Math.min(wanted, Math.max(1, Math.ceil(max / step - 1e-9)));
-	return Array.from({ length: n }, (_, i) => {
-		const b = Number((step * (i + 1)).toPrecision(12));
-		return i === n - 1 ? Math.max(b, max) : b;
-	});
+	const bounds: number[] = [];
+	for (let i = 1; i <= wanted; i++) {
+		const b = roundUp2(i === wanted ? positive[positive.length - 1] : quantile(positive, i / wanted));
+		if (bounds.length === 0 || b > bounds[bounds.length - 1]) bounds.push(b);
+	}
+	return bounds;
 }
 
 /** Index of the class a value falls in, or -1 for no data / zero. */
