@@ -12,7 +12,7 @@
 // Every write takes the same transaction-level advisory lock, so a batch commit and a rebuild chunk never
 // interleave on the same rows. Everything is set-based: one query loads a chunk of records, one writes
 // its estimates (unnest), one recomputes the touched cells (GROUPING SETS).
-import { sql, type Kysely, type Transaction } from 'kysely';
+import { sql, type Kysely, type RawBuilder, type Transaction } from 'kysely';
 import type { Database } from '../db/schema';
 import { recordFacts, type FactRecord, type RecordFact } from '$lib/domain/rollup-facts';
 import type { ReductionMethod } from '$lib/domain/reduction-method';
@@ -30,6 +30,10 @@ const DISTRICT_CHUNK = 8;
 
 export async function lockRollups(trx: Transaction<Database>): Promise<void> {
 	await sql`select pg_advisory_xact_lock(${ROLLUP_LOCK_KEY})`.execute(trx);
+	// The planner cannot see how many FYs generate_series yields per record and guesses 1,000, which makes
+	// it compile these short queries with JIT (seconds) and plan tiny sorts to disk; tell it otherwise.
+	await sql`set local jit = off`.execute(trx);
+	await sql`set local work_mem = '64MB'`.execute(trx);
 }
 
 // --- loading and writing per-record facts --------------------------------------------------------------
@@ -58,40 +62,71 @@ export async function loadFactRecords(db: Db, ids: readonly string[], methodVers
 	return rows;
 }
 
-export async function writeFacts(db: Db, facts: readonly RecordFact[]): Promise<void> {
+/** The (district, FY basis, basis, FY) keys a footprint counts in, from record_estimates-shaped rows `t`. */
+function footprintKeysOf(t: string) {
+	return sql.raw(`
+		select distinct ${t}.district_id, v.fy_basis, v.basis, g.fy
+		from ${t}
+		cross join lateral (values
+			('state', 'installed', ${t}.state_fy_installed, ${t}.state_fy_installed),
+			('state', 'in_service', ${t}.state_fy_first, ${t}.state_fy_last),
+			('federal', 'installed', ${t}.federal_fy_installed, ${t}.federal_fy_installed),
+			('federal', 'in_service', ${t}.federal_fy_first, ${t}.federal_fy_last)
+		) as v(fy_basis, basis, fy_from, fy_to)
+		cross join lateral rollup_fy_span(v.fy_from, v.fy_to) as g(fy)`);
+}
+
+/**
+ * Upserts facts and returns the summary keys their old footprints (read in the same statement, before the
+ * write) and new footprints count in — the cells a refresh must recompute.
+ */
+export async function writeFacts(db: Db, facts: readonly RecordFact[]): Promise<CellKey[]> {
+	const keys: CellKey[] = [];
 	for (let i = 0; i < facts.length; i += CHUNK) {
 		const part = facts.slice(i, i + CHUNK);
 		const col = <T>(f: (x: RecordFact) => T): T[] => part.map(f);
-		await sql`
-			insert into record_estimates (record_id, method_version, counted, reason, credited_acres,
-				n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high,
-				district_id, county_fips, huc8, practice_code, field_id, operation_key, cost_usd, cost_share_usd,
-				state_fy_start_month, state_fy_installed, state_fy_first, state_fy_last,
-				federal_fy_installed, federal_fy_first, federal_fy_last, computed_at)
-			select u.*, now() from unnest(
-				${col((x) => x.record_id)}::bigint[], ${col((x) => x.method_version)}::text[], ${col((x) => x.counted)}::boolean[],
-				${col((x) => x.reason)}::text[], ${col((x) => x.credited_acres)}::numeric[],
-				${col((x) => x.n_lb.mean)}::numeric[], ${col((x) => x.n_lb.low)}::numeric[], ${col((x) => x.n_lb.high)}::numeric[],
-				${col((x) => x.p_lb.mean)}::numeric[], ${col((x) => x.p_lb.low)}::numeric[], ${col((x) => x.p_lb.high)}::numeric[],
-				${col((x) => x.district_id)}::int[], ${col((x) => x.county_fips)}::char(5)[], ${col((x) => x.huc8)}::char(8)[],
-				${col((x) => x.practice_code)}::text[], ${col((x) => x.field_id)}::text[], ${col((x) => x.operation_key)}::text[],
-				${col((x) => x.cost_usd)}::numeric[], ${col((x) => x.cost_share_usd)}::numeric[],
-				${col((x) => x.state_fy_start_month)}::smallint[], ${col((x) => x.state.installed)}::int[],
-				${col((x) => x.state.first)}::int[], ${col((x) => x.state.last)}::int[],
-				${col((x) => x.federal.installed)}::int[], ${col((x) => x.federal.first)}::int[], ${col((x) => x.federal.last)}::int[]
-			) as u
-			on conflict (record_id, method_version) do update set
-				counted = excluded.counted, reason = excluded.reason, credited_acres = excluded.credited_acres,
-				n_lb_mean = excluded.n_lb_mean, n_lb_low = excluded.n_lb_low, n_lb_high = excluded.n_lb_high,
-				p_lb_mean = excluded.p_lb_mean, p_lb_low = excluded.p_lb_low, p_lb_high = excluded.p_lb_high,
-				district_id = excluded.district_id, county_fips = excluded.county_fips, huc8 = excluded.huc8,
-				practice_code = excluded.practice_code, field_id = excluded.field_id, operation_key = excluded.operation_key,
-				cost_usd = excluded.cost_usd, cost_share_usd = excluded.cost_share_usd,
-				state_fy_start_month = excluded.state_fy_start_month, state_fy_installed = excluded.state_fy_installed,
-				state_fy_first = excluded.state_fy_first, state_fy_last = excluded.state_fy_last,
-				federal_fy_installed = excluded.federal_fy_installed, federal_fy_first = excluded.federal_fy_first,
-				federal_fy_last = excluded.federal_fy_last, computed_at = excluded.computed_at`.execute(db);
+		const { rows } = await sql<CellKey>`
+			with old as (
+				select e.* from record_estimates e
+				where e.method_version = ${part[0].method_version} and e.record_id = any(${col((x) => x.record_id)}::bigint[])
+			),
+			old_keys as (${footprintKeysOf('old')}),
+			written as (
+				insert into record_estimates (record_id, method_version, counted, reason, credited_acres,
+					n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high,
+					district_id, county_fips, huc8, practice_code, field_id, operation_key, cost_usd, cost_share_usd,
+					state_fy_start_month, state_fy_installed, state_fy_first, state_fy_last,
+					federal_fy_installed, federal_fy_first, federal_fy_last, computed_at)
+				select u.*, now() from unnest(
+					${col((x) => x.record_id)}::bigint[], ${col((x) => x.method_version)}::text[], ${col((x) => x.counted)}::boolean[],
+					${col((x) => x.reason)}::text[], ${col((x) => x.credited_acres)}::numeric[],
+					${col((x) => x.n_lb.mean)}::numeric[], ${col((x) => x.n_lb.low)}::numeric[], ${col((x) => x.n_lb.high)}::numeric[],
+					${col((x) => x.p_lb.mean)}::numeric[], ${col((x) => x.p_lb.low)}::numeric[], ${col((x) => x.p_lb.high)}::numeric[],
+					${col((x) => x.district_id)}::int[], ${col((x) => x.county_fips)}::char(5)[], ${col((x) => x.huc8)}::char(8)[],
+					${col((x) => x.practice_code)}::text[], ${col((x) => x.field_id)}::text[], ${col((x) => x.operation_key)}::text[],
+					${col((x) => x.cost_usd)}::numeric[], ${col((x) => x.cost_share_usd)}::numeric[],
+					${col((x) => x.state_fy_start_month)}::smallint[], ${col((x) => x.state.installed)}::int[],
+					${col((x) => x.state.first)}::int[], ${col((x) => x.state.last)}::int[],
+					${col((x) => x.federal.installed)}::int[], ${col((x) => x.federal.first)}::int[], ${col((x) => x.federal.last)}::int[]
+				) as u
+				on conflict (record_id, method_version) do update set
+					counted = excluded.counted, reason = excluded.reason, credited_acres = excluded.credited_acres,
+					n_lb_mean = excluded.n_lb_mean, n_lb_low = excluded.n_lb_low, n_lb_high = excluded.n_lb_high,
+					p_lb_mean = excluded.p_lb_mean, p_lb_low = excluded.p_lb_low, p_lb_high = excluded.p_lb_high,
+					district_id = excluded.district_id, county_fips = excluded.county_fips, huc8 = excluded.huc8,
+					practice_code = excluded.practice_code, field_id = excluded.field_id, operation_key = excluded.operation_key,
+					cost_usd = excluded.cost_usd, cost_share_usd = excluded.cost_share_usd,
+					state_fy_start_month = excluded.state_fy_start_month, state_fy_installed = excluded.state_fy_installed,
+					state_fy_first = excluded.state_fy_first, state_fy_last = excluded.state_fy_last,
+					federal_fy_installed = excluded.federal_fy_installed, federal_fy_first = excluded.federal_fy_first,
+					federal_fy_last = excluded.federal_fy_last, computed_at = excluded.computed_at
+				returning *
+			),
+			new_keys as (${footprintKeysOf('written')})
+			select * from old_keys union select * from new_keys`.execute(db);
+		keys.push(...rows);
 	}
+	return dedupeKeys(keys);
 }
 
 // --- summary cells ---------------------------------------------------------------------------------------
@@ -104,36 +139,31 @@ export interface CellKey {
 	fy: number;
 }
 
-/** The keys the stored footprints of these records count in (read before and after re-estimating them). */
-export async function footprintKeys(db: Db, methodVersion: string, recordIds: readonly string[]): Promise<CellKey[]> {
-	if (recordIds.length === 0) return [];
-	const { rows } = await sql<CellKey>`
-		select distinct e.district_id, v.fy_basis, v.basis, g.fy
-		from record_estimates e
-		cross join lateral (values
-			('state', 'installed', e.state_fy_installed, e.state_fy_installed),
-			('state', 'in_service', e.state_fy_first, e.state_fy_last),
-			('federal', 'installed', e.federal_fy_installed, e.federal_fy_installed),
-			('federal', 'in_service', e.federal_fy_first, e.federal_fy_last)
-		) as v(fy_basis, basis, fy_from, fy_to)
-		cross join lateral generate_series(v.fy_from, v.fy_to) as g(fy)
-		where e.method_version = ${methodVersion} and e.record_id = any(${[...recordIds]}::bigint[])`.execute(db);
-	return rows;
-}
-
 /**
- * The body of every cell computation: the facts of the given scope expanded to one row per fiscal year
- * counted (installed and in-service bases, state and federal FYs), then summed by district × FY at six
- * levels — county × practice, county, HUC-8 × practice, HUC-8, practice, all — in one GROUPING SETS pass.
+ * The body of every cell computation: the facts of the given scope (amounts turned into integers once — cents,
+ * 1/10,000 acre, millionths of a pound — so sums are exact and fast) expanded to one row per fiscal year
+ * counted (installed and in-service bases, state and federal FYs), then summed by district × FY at six levels
+ * — county × practice, county, HUC-8 × practice, HUC-8, practice, all — with hash GROUPING SETS. Distinct
+ * operations come from a second pass: one row per (level key, operation), counted per level key.
  */
-function cellsSelect(methodVersion: string, factsWhere: ReturnType<typeof sql>, keyJoin: ReturnType<typeof sql>) {
+function cellsSelect(methodVersion: string, factsWhere: RawBuilder<unknown>, keyJoin: RawBuilder<unknown>) {
+	const levels = sql`grouping sets ((county_fips, practice_code), (county_fips), (huc8, practice_code), (huc8), (practice_code), ())`;
+	const keyCols = sql`
+		case when grouping(county_fips) = 0 then 'county' when grouping(huc8) = 0 then 'huc8' else 'district' end as geo_level,
+		case when grouping(county_fips) = 0 then county_fips::text when grouping(huc8) = 0 then coalesce(huc8::text, '') else '' end as geo,
+		case when grouping(practice_code) = 0 then practice_code else '*' end as practice_code`;
 	return sql`
 		with facts as (
-			select * from record_estimates e where e.method_version = ${methodVersion} and ${factsWhere}
+			select e.district_id, e.county_fips, e.huc8, e.practice_code, e.operation_key,
+				e.state_fy_installed, e.state_fy_first, e.state_fy_last, e.federal_fy_installed, e.federal_fy_first, e.federal_fy_last,
+				(e.credited_acres * 10000)::int8 as acres, (coalesce(e.cost_usd, 0) * 100)::int8 as cost,
+				(coalesce(e.cost_share_usd, 0) * 100)::int8 as cost_share,
+				(e.n_lb_mean * 1000000)::int8 as n_mean, (e.n_lb_low * 1000000)::int8 as n_low, (e.n_lb_high * 1000000)::int8 as n_high,
+				(e.p_lb_mean * 1000000)::int8 as p_mean, (e.p_lb_low * 1000000)::int8 as p_low, (e.p_lb_high * 1000000)::int8 as p_high
+			from record_estimates e where e.method_version = ${methodVersion} and ${factsWhere}
 		),
-		x as (
-			select v.fy_basis, v.basis, g.fy, f.district_id, f.county_fips, f.huc8, f.practice_code, f.operation_key,
-				f.credited_acres, f.cost_usd, f.cost_share_usd, f.n_lb_mean, f.n_lb_low, f.n_lb_high, f.p_lb_mean, f.p_lb_low, f.p_lb_high
+		x as materialized (
+			select v.fy_basis, v.basis, g.fy, f.*
 			from facts f
 			cross join lateral (values
 				('state', 'installed', f.state_fy_installed, f.state_fy_installed),
@@ -141,21 +171,27 @@ function cellsSelect(methodVersion: string, factsWhere: ReturnType<typeof sql>, 
 				('federal', 'installed', f.federal_fy_installed, f.federal_fy_installed),
 				('federal', 'in_service', f.federal_fy_first, f.federal_fy_last)
 			) as v(fy_basis, basis, fy_from, fy_to)
-			cross join lateral generate_series(v.fy_from, v.fy_to) as g(fy)
+			cross join lateral rollup_fy_span(v.fy_from, v.fy_to) as g(fy)
+			${keyJoin}
 		),
-		y as (select x.* from x ${keyJoin})
-		select ${methodVersion}::text as method_version, fy_basis, basis,
-			case when grouping(county_fips) = 0 then 'county' when grouping(huc8) = 0 then 'huc8' else 'district' end as geo_level,
-			fy, district_id,
-			case when grouping(county_fips) = 0 then county_fips::text when grouping(huc8) = 0 then coalesce(huc8::text, '') else '' end as geo,
-			case when grouping(practice_code) = 0 then practice_code else '*' end as practice_code,
-			count(*)::int as practices, count(distinct operation_key)::int as operations,
-			sum(credited_acres) as credited_acres, coalesce(sum(cost_usd), 0) as cost_usd, coalesce(sum(cost_share_usd), 0) as cost_share_usd,
-			sum(n_lb_mean) as n_lb_mean, sum(n_lb_low) as n_lb_low, sum(n_lb_high) as n_lb_high,
-			sum(p_lb_mean) as p_lb_mean, sum(p_lb_low) as p_lb_low, sum(p_lb_high) as p_lb_high
-		from y
-		group by fy_basis, basis, fy, district_id,
-			grouping sets ((county_fips, practice_code), (county_fips), (huc8, practice_code), (huc8), (practice_code), ())`;
+		sums as (
+			select fy_basis, basis, fy, district_id, ${keyCols}, count(*)::int as practices,
+				sum(acres) as acres, sum(cost) as cost, sum(cost_share) as cost_share,
+				sum(n_mean) as n_mean, sum(n_low) as n_low, sum(n_high) as n_high, sum(p_mean) as p_mean, sum(p_low) as p_low, sum(p_high) as p_high
+			from x group by fy_basis, basis, fy, district_id, ${levels}
+		),
+		op_pairs as (
+			select fy_basis, basis, fy, district_id, ${keyCols}
+			from x group by fy_basis, basis, fy, district_id, operation_key, ${levels}
+		),
+		ops as (
+			select fy_basis, basis, fy, district_id, geo_level, geo, practice_code, count(*)::int as operations
+			from op_pairs group by fy_basis, basis, fy, district_id, geo_level, geo, practice_code
+		)
+		select ${methodVersion}::text as method_version, s.fy_basis, s.basis, s.geo_level, s.fy, s.district_id, s.geo, s.practice_code,
+			s.practices, o.operations, s.acres / 10000.0, s.cost / 100.0, s.cost_share / 100.0,
+			s.n_mean / 1000000.0, s.n_low / 1000000.0, s.n_high / 1000000.0, s.p_mean / 1000000.0, s.p_low / 1000000.0, s.p_high / 1000000.0
+		from sums s join ops o using (fy_basis, basis, fy, district_id, geo_level, geo, practice_code)`;
 }
 
 const CELL_COLUMNS = sql`(method_version, fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations,
@@ -176,7 +212,7 @@ export async function recomputeCells(db: Db, methodVersion: string, keys: readon
 	await sql`insert into rollup_cells ${CELL_COLUMNS} ${cellsSelect(
 		methodVersion,
 		sql`e.district_id = any(${[...new Set(d)]}::int[])`,
-		sql`join ${aff} as a on a.district_id = x.district_id and a.fy_basis = x.fy_basis and a.basis = x.basis and a.fy = x.fy`
+		sql`join ${aff} as a on a.district_id = f.district_id and a.fy_basis = v.fy_basis and a.basis = v.basis and a.fy = g.fy`
 	)}`.execute(db);
 }
 
@@ -251,13 +287,8 @@ export async function refreshRecords(trx: Transaction<Database>, recordIds: read
 /** Re-estimates records (with field-mates) and, when `cells`, recomputes the cells their old and new footprints touch. */
 async function refreshFacts(db: Db, method: ReductionMethod, ids: readonly string[], startMonth: number, cells: boolean): Promise<number> {
 	const records = await loadFactRecords(db, ids, method.version);
-	const all = records.map((r) => r.id);
-	const before = cells ? await footprintKeys(db, method.version, all) : [];
-	await writeFacts(db, recordFacts(records, method, startMonth));
-	if (cells) {
-		const after = await footprintKeys(db, method.version, all);
-		await recomputeCells(db, method.version, dedupeKeys([...before, ...after]));
-	}
+	const keys = await writeFacts(db, recordFacts(records, method, startMonth));
+	if (cells) await recomputeCells(db, method.version, keys);
 	return records.length;
 }
 
