@@ -11,7 +11,15 @@ export async function activeMethodVersion(db: Db): Promise<string | null> {
 	return (await getActiveMethodVersion(db)) ?? null;
 }
 
+// A stored method version never changes (the methods area refuses to overwrite one), so its document can be
+// kept for the life of the process.
+const cache = new Map<string, ReductionMethod>();
+
 /** A stored method version's document, or null when no such version is stored. */
 export async function loadMethod(db: Db, version: string): Promise<ReductionMethod | null> {
-	return (await getMethod(db, version))?.method ?? null;
+	const hit = cache.get(version);
+	if (hit) return hit;
+	const method = (await getMethod(db, version))?.method ?? null;
+	if (method) cache.set(version, method);
+	return method;
 }

@@ -9,12 +9,21 @@ import { ApiError } from '../http/problem';
 import { fiscalYear } from '$lib/domain/fiscal-year';
 import type { ReductionMethod } from '$lib/domain/reduction-method';
 import { applySmallCellRule, type BaseCell, type SmallCellCounts } from '$lib/domain/small-cell-rule';
-import { DEFAULT_FY_SPAN, type Grouping, type RollupCell, type RollupPending, type RollupQuery, type RollupResponse, type RollupTotal } from '$lib/schema/rollups';
+import {
+	DEFAULT_FY_SPAN,
+	type Grouping,
+	type RollupCell,
+	type RollupPending,
+	type RollupQuery,
+	type RollupResponse,
+	type RollupTotal
+} from '$lib/schema/rollups';
 import { activeMethodVersion, loadMethod } from './method-source';
 import { isCurrent, requestRebuild, summaryState } from './refresh';
 import { readSettings, SETTING_KEYS, smallCellKOf, stateFyStartMonthOf } from './settings';
 
-export type RollupOutcome = { kind: 'ready'; response: RollupResponse; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
+export type RollupOutcome =
+	{ kind: 'ready'; response: RollupResponse; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
 
 interface Lookups {
 	counties: Map<string, string>;
@@ -23,9 +32,13 @@ interface Lookups {
 }
 
 /** Names for the answer: practices and districts (short lists) and the counties of the hub state. */
-async function lookups(db: Kysely<Database>, stateFips: string): Promise<Lookups> {
+async function lookups(db: Kysely<Database>): Promise<Lookups> {
 	const [counties, practices, districts] = await Promise.all([
-		db.selectFrom('counties').select(['fips', 'name']).where('state_fips', '=', stateFips).execute(),
+		sql<{ fips: string; name: string }>`
+			select fips, name from counties
+			where state_fips = (select coalesce((select lpad(value #>> '{}', 2, '0') from settings where key = 'hub_state_fips'), '19'))`
+			.execute(db)
+			.then((r) => r.rows),
 		db.selectFrom('practices').select(['code', 'name']).execute(),
 		db.selectFrom('districts').select(['id', 'code', 'name', 'region']).execute()
 	]);
@@ -40,8 +53,18 @@ async function lookups(db: Kysely<Database>, stateFips: string): Promise<Lookups
 async function resolveDistrict(db: Kysely<Database>, text: string): Promise<number> {
 	const row = /^[0-9]+$/.test(text)
 		? await db.selectFrom('districts').select('id').where('id', '=', Number(text)).executeTakeFirst()
-		: await db.selectFrom('districts').select('id').where(sql`lower(code)`, '=', text.toLowerCase()).executeTakeFirst();
-	if (!row) throw new ApiError({ status: 404, type: 'unknown-district', detail: `No district ${text}.`, errors: [{ pointer: '#/query/district', detail: 'Unknown district.' }] });
+		: await db
+				.selectFrom('districts')
+				.select('id')
+				.where(sql`lower(code)`, '=', text.toLowerCase())
+				.executeTakeFirst();
+	if (!row)
+		throw new ApiError({
+			status: 404,
+			type: 'unknown-district',
+			detail: `No district ${text}.`,
+			errors: [{ pointer: '#/query/district', detail: 'Unknown district.' }]
+		});
 	return row.id;
 }
 
@@ -101,7 +124,10 @@ export interface CellSource {
 }
 
 /** The summary level a grouping reads: geography and practice level chosen so no cell is summed across them. */
-export function sourceLevel(g: Grouping, src: Pick<CellSource, 'county' | 'practice'>): { geoLevel: 'county' | 'huc8' | 'district'; byPractice: boolean } {
+export function sourceLevel(
+	g: Grouping,
+	src: Pick<CellSource, 'county' | 'practice'>
+): { geoLevel: 'county' | 'huc8' | 'district'; byPractice: boolean } {
 	const geoLevel = g.dims.includes('county') || src.county ? 'county' : g.dims.includes('huc8') ? 'huc8' : 'district';
 	return { geoLevel, byPractice: g.dims.includes('practice') || !!src.practice };
 }
@@ -169,8 +195,38 @@ function notesFor(method: ReductionMethod, q: RollupQuery, startMonth: number, r
  * being built, having asked for that build.
  */
 export async function runRollup(db: Kysely<Database>, principal: Principal, q: RollupQuery): Promise<RollupOutcome> {
-	const version = q.method ?? (await activeMethodVersion(db));
+	const researcher = principal.role === 'researcher';
+	// Scope rules that need no database first: researchers see no districts and one grouping.
+	if (researcher) {
+		const errors = [];
+		if (q.district !== null)
+			errors.push({ pointer: '#/query/district', detail: 'Researchers see county, regional and state aggregates, not districts.' });
+		if (q.groupings.some((g) => g.dims.join() !== 'fy,county,practice')) {
+			errors.push({
+				pointer: '#/query/group',
+				detail: 'Researchers get the county,fy,practice grouping, with the small-cell rule applied.'
+			});
+		}
+		if (errors.length)
+			throw new ApiError({ status: 400, type: 'invalid-query', detail: 'This grouping or filter is not open to researchers.', errors });
+	}
+	if (principal.role === 'district' && principal.districtId === null) {
+		throw new ApiError({ status: 403, detail: 'This district account is not bound to a district.' });
+	}
+
+	// One round of independent reads: settings, every method's summary state, names, the asked district.
+	const [settings, states, names, asked] = await Promise.all([
+		readSettings(db, [SETTING_KEYS.stateFyStartMonth, SETTING_KEYS.smallCellK, SETTING_KEYS.hubStateFips, SETTING_KEYS.activeMethod]),
+		db.selectFrom('rollup_refresh').selectAll().execute(),
+		lookups(db),
+		q.district !== null ? resolveDistrict(db, q.district) : Promise.resolve(null)
+	]);
+	const active = settings.get(SETTING_KEYS.activeMethod);
+	const version = q.method ?? (typeof active === 'string' ? active : await activeMethodVersion(db));
 	if (!version) throw new ApiError({ status: 404, type: 'no-method', detail: 'No reduction method has been set up yet.' });
+	const startMonth = stateFyStartMonthOf(settings.get(SETTING_KEYS.stateFyStartMonth));
+	const k = smallCellKOf(settings.get(SETTING_KEYS.smallCellK));
+	const state = states.find((x) => x.method_version === version);
 	const method = await loadMethod(db, version);
 	if (!method) {
 		throw new ApiError({
@@ -180,29 +236,15 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 			errors: [{ pointer: '#/query/method', detail: 'Unknown method version.' }]
 		});
 	}
-	const settings = await readSettings(db, [SETTING_KEYS.stateFyStartMonth, SETTING_KEYS.smallCellK, SETTING_KEYS.hubStateFips]);
-	const startMonth = stateFyStartMonthOf(settings.get(SETTING_KEYS.stateFyStartMonth));
-	const k = smallCellKOf(settings.get(SETTING_KEYS.smallCellK));
-	const researcher = principal.role === 'researcher';
-
-	// Scope before anything else: a district account sees its own district; researchers see no districts.
-	let districtId: number | null = null;
+	// A district account sees its own district; asking for another is refused.
+	let districtId: number | null = asked;
 	if (principal.role === 'district') {
-		if (principal.districtId === null) throw new ApiError({ status: 403, detail: 'This district account is not bound to a district.' });
-		if (q.district !== null && (await resolveDistrict(db, q.district)) !== principal.districtId) {
+		if (asked !== null && asked !== principal.districtId) {
 			throw new ApiError({ status: 403, type: 'other-district', detail: 'A district account sees its own district only.' });
 		}
 		districtId = principal.districtId;
-	} else if (researcher) {
-		const errors = [];
-		if (q.district !== null) errors.push({ pointer: '#/query/district', detail: 'Researchers see county, regional and state aggregates, not districts.' });
-		if (q.groupings.some((g) => g.dims.join() !== 'fy,county,practice')) {
-			errors.push({ pointer: '#/query/group', detail: 'Researchers get the county,fy,practice grouping, with the small-cell rule applied.' });
-		}
-		if (errors.length) throw new ApiError({ status: 400, type: 'invalid-query', detail: 'This grouping or filter is not open to researchers.', errors });
-	} else if (q.district !== null) districtId = await resolveDistrict(db, q.district);
+	}
 
-	const state = await summaryState(db, version);
 	if (!isCurrent(state, startMonth)) {
 		await requestRebuild(db, version);
 		const now = await summaryState(db, version);
@@ -220,8 +262,15 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 	}
 
 	const fy = q.fy ?? defaultFyRange(q.fy_basis, startMonth);
-	const src: CellSource = { methodVersion: version, fyBasis: q.fy_basis, basis: q.basis, fy, districtId, county: q.county, practice: q.practice };
-	const names = await lookups(db, String(settings.get(SETTING_KEYS.hubStateFips) ?? '19').padStart(2, '0'));
+	const src: CellSource = {
+		methodVersion: version,
+		fyBasis: q.fy_basis,
+		basis: q.basis,
+		fy,
+		districtId,
+		county: q.county,
+		practice: q.practice
+	};
 	let smallCells: SmallCellCounts | null = null;
 	const groupings: RollupResponse['groupings'] = [];
 
@@ -230,9 +279,14 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		smallCells = r.counts;
 		groupings.push({ group: ['county', 'fy', 'practice'], cells: r.cells, totals: r.totals });
 	} else {
-		const totals = (await totalsSql(src).execute(db)).rows.map((t) => ({ fy: Number(t.fy), ...measures(t) }));
-		for (const g of q.groupings) {
-			const rows = (await groupingSql(g, src).execute(db)).rows;
+		// The totals and every grouping are independent reads of the summary: run them side by side.
+		const [totalRows, ...perGrouping] = await Promise.all([
+			totalsSql(src).execute(db),
+			...q.groupings.map((g) => groupingSql(g, src).execute(db))
+		]);
+		const totals = totalRows.rows.map((t) => ({ fy: Number(t.fy), ...measures(t) }));
+		for (const [gi, g] of q.groupings.entries()) {
+			const rows = perGrouping[gi].rows;
 			const { geoLevel } = sourceLevel(g, src);
 			const cells: RollupCell[] = rows.map((r) => {
 				const cell: RollupCell = { fy: Number(r.fy), ...measures(r) };
@@ -385,7 +439,8 @@ async function researcherCells(db: Kysely<Database>, src: CellSource, k: number,
 		practice_code: p.practice_code,
 		practice_name: names.practices.get(p.practice_code) ?? '',
 		area_level: p.level,
-		area_name: p.level === 'county' ? (names.counties.get(p.county_fips!) ?? p.county_fips!) : p.level === 'region' ? p.region! : 'Statewide',
+		area_name:
+			p.level === 'county' ? (names.counties.get(p.county_fips!) ?? p.county_fips!) : p.level === 'region' ? p.region! : 'Statewide',
 		operations: p.operations,
 		...toOut(p)
 	}));
@@ -393,7 +448,20 @@ async function researcherCells(db: Kysely<Database>, src: CellSource, k: number,
 	for (const p of shown) {
 		const t = byFy.get(p.fy);
 		if (!t) byFy.set(p.fy, { ...p });
-		else for (const key of ['practices', 'credited_acres', 'cost_usd', 'cost_share_usd', 'n_lb_mean', 'n_lb_low', 'n_lb_high', 'p_lb_mean', 'p_lb_low', 'p_lb_high'] as const) t[key] += p[key];
+		else
+			for (const key of [
+				'practices',
+				'credited_acres',
+				'cost_usd',
+				'cost_share_usd',
+				'n_lb_mean',
+				'n_lb_low',
+				'n_lb_high',
+				'p_lb_mean',
+				'p_lb_low',
+				'p_lb_high'
+			] as const)
+				t[key] += p[key];
 	}
 	const totals: RollupTotal[] = [...byFy.values()].sort((a, b) => a.fy - b.fy).map((t) => ({ fy: t.fy, operations: null, ...toOut(t) }));
 	return { cells: out, totals, counts };

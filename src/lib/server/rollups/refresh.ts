@@ -11,10 +11,12 @@
 //
 // Every write takes the same transaction-level advisory lock, so a batch commit and a rebuild chunk never
 // interleave on the same rows. Everything is set-based: one query loads a chunk of records, one writes
-// its estimates (unnest), one recomputes the touched cells (GROUPING SETS).
-import { sql, type Kysely, type RawBuilder, type Transaction } from 'kysely';
+// its estimates (unnest) and returns the keys touched, one loads the facts of those districts, the cells
+// are summed in memory (rollup-cells.ts, exact integer sums) and written back with one unnest per chunk.
+import { sql, type Kysely, type Transaction } from 'kysely';
 import type { Database } from '../db/schema';
 import { recordFacts, type FactRecord, type RecordFact } from '$lib/domain/rollup-facts';
+import { aggregateCells, summaryKeyId, type CellFact, type CellRow, type SummaryKey } from '$lib/domain/rollup-cells';
 import type { ReductionMethod } from '$lib/domain/reduction-method';
 import { activeMethodVersion, loadMethod } from './method-source';
 import { stateFyStartMonth } from './settings';
@@ -23,10 +25,8 @@ type Db = Kysely<Database> | Transaction<Database>;
 
 /** Advisory lock shared by every writer of rollup data ('RNRL'). */
 export const ROLLUP_LOCK_KEY = 0x524e524c;
-/** Records per chunk when rebuilding, and per INSERT when writing estimates. */
+/** Rows per INSERT when writing estimates and cells. */
 export const CHUNK = 5000;
-/** Districts per transaction when rebuilding cells. */
-const DISTRICT_CHUNK = 8;
 
 export async function lockRollups(trx: Transaction<Database>): Promise<void> {
 	await sql`select pg_advisory_xact_lock(${ROLLUP_LOCK_KEY})`.execute(trx);
@@ -37,6 +37,10 @@ export async function lockRollups(trx: Transaction<Database>): Promise<void> {
 }
 
 // --- loading and writing per-record facts --------------------------------------------------------------
+
+const FACT_RECORD_COLUMNS = sql`r.id::text as id, r.district_id, r.practice_code, r.county_fips, r.installed_on, r.status, r.withdrawn_on,
+	r.extent_acres, r.drainage_area_acres, r.field_id, r.operation_id, r.huc12, r.cost_total_usd, r.cost_share_usd,
+	p.lifespan_years as catalog_lifespan_years`;
 
 /** The records with these ids plus every record now or formerly on the same (district, field). */
 export async function loadFactRecords(db: Db, ids: readonly string[], methodVersion: string): Promise<FactRecord[]> {
@@ -54,11 +58,18 @@ export async function loadFactRecords(db: Db, ids: readonly string[], methodVers
 			union
 			select r.id from records r join fields f on f.district_id = r.district_id and f.field_id = r.field_id
 		)
-		select r.id::text as id, r.district_id, r.practice_code, r.county_fips, r.installed_on, r.status, r.withdrawn_on,
-			r.extent_acres, r.drainage_area_acres, r.field_id, r.operation_id, r.huc12, r.cost_total_usd, r.cost_share_usd,
-			p.lifespan_years as catalog_lifespan_years
+		select ${FACT_RECORD_COLUMNS}
 		from records r join wanted w on w.id = r.id join practices p on p.code = r.practice_code
 		order by r.id`.execute(db);
+	return rows;
+}
+
+/** Every record of these districts (field-mates are always in the same district). */
+export async function loadDistrictRecords(db: Db, districtIds: readonly number[]): Promise<FactRecord[]> {
+	if (districtIds.length === 0) return [];
+	const { rows } = await sql<FactRecord>`
+		select ${FACT_RECORD_COLUMNS} from records r join practices p on p.code = r.practice_code
+		where r.district_id = any(${[...districtIds]}::int[])`.execute(db);
 	return rows;
 }
 
@@ -76,52 +87,59 @@ function footprintKeysOf(t: string) {
 		cross join lateral rollup_fy_span(v.fy_from, v.fy_to) as g(fy)`);
 }
 
+function upsertFacts(part: readonly RecordFact[]) {
+	const col = <T>(f: (x: RecordFact) => T): T[] => part.map(f);
+	return sql`
+		insert into record_estimates (record_id, method_version, counted, reason, credited_acres,
+			n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high,
+			district_id, county_fips, huc8, practice_code, field_id, operation_key, cost_usd, cost_share_usd,
+			state_fy_start_month, state_fy_installed, state_fy_first, state_fy_last,
+			federal_fy_installed, federal_fy_first, federal_fy_last, computed_at)
+		select u.*, now() from unnest(
+			${col((x) => x.record_id)}::bigint[], ${col((x) => x.method_version)}::text[], ${col((x) => x.counted)}::boolean[],
+			${col((x) => x.reason)}::text[], ${col((x) => x.credited_acres)}::numeric[],
+			${col((x) => x.n_lb.mean)}::numeric[], ${col((x) => x.n_lb.low)}::numeric[], ${col((x) => x.n_lb.high)}::numeric[],
+			${col((x) => x.p_lb.mean)}::numeric[], ${col((x) => x.p_lb.low)}::numeric[], ${col((x) => x.p_lb.high)}::numeric[],
+			${col((x) => x.district_id)}::int[], ${col((x) => x.county_fips)}::char(5)[], ${col((x) => x.huc8)}::char(8)[],
+			${col((x) => x.practice_code)}::text[], ${col((x) => x.field_id)}::text[], ${col((x) => x.operation_key)}::text[],
+			${col((x) => x.cost_usd)}::numeric[], ${col((x) => x.cost_share_usd)}::numeric[],
+			${col((x) => x.state_fy_start_month)}::smallint[], ${col((x) => x.state.installed)}::int[],
+			${col((x) => x.state.first)}::int[], ${col((x) => x.state.last)}::int[],
+			${col((x) => x.federal.installed)}::int[], ${col((x) => x.federal.first)}::int[], ${col((x) => x.federal.last)}::int[]
+		) as u
+		on conflict (record_id, method_version) do update set
+			counted = excluded.counted, reason = excluded.reason, credited_acres = excluded.credited_acres,
+			n_lb_mean = excluded.n_lb_mean, n_lb_low = excluded.n_lb_low, n_lb_high = excluded.n_lb_high,
+			p_lb_mean = excluded.p_lb_mean, p_lb_low = excluded.p_lb_low, p_lb_high = excluded.p_lb_high,
+			district_id = excluded.district_id, county_fips = excluded.county_fips, huc8 = excluded.huc8,
+			practice_code = excluded.practice_code, field_id = excluded.field_id, operation_key = excluded.operation_key,
+			cost_usd = excluded.cost_usd, cost_share_usd = excluded.cost_share_usd,
+			state_fy_start_month = excluded.state_fy_start_month, state_fy_installed = excluded.state_fy_installed,
+			state_fy_first = excluded.state_fy_first, state_fy_last = excluded.state_fy_last,
+			federal_fy_installed = excluded.federal_fy_installed, federal_fy_first = excluded.federal_fy_first,
+			federal_fy_last = excluded.federal_fy_last, computed_at = excluded.computed_at`;
+}
+
+/** Upserts facts (no keys returned; a full rebuild recomputes whole districts). */
+export async function writeFacts(db: Db, facts: readonly RecordFact[]): Promise<void> {
+	for (let i = 0; i < facts.length; i += CHUNK) await upsertFacts(facts.slice(i, i + CHUNK)).execute(db);
+}
+
 /**
  * Upserts facts and returns the summary keys their old footprints (read in the same statement, before the
  * write) and new footprints count in — the cells a refresh must recompute.
  */
-export async function writeFacts(db: Db, facts: readonly RecordFact[]): Promise<CellKey[]> {
+export async function writeFactsWithKeys(db: Db, facts: readonly RecordFact[]): Promise<CellKey[]> {
 	const keys: CellKey[] = [];
 	for (let i = 0; i < facts.length; i += CHUNK) {
 		const part = facts.slice(i, i + CHUNK);
-		const col = <T>(f: (x: RecordFact) => T): T[] => part.map(f);
 		const { rows } = await sql<CellKey>`
 			with old as (
 				select e.* from record_estimates e
-				where e.method_version = ${part[0].method_version} and e.record_id = any(${col((x) => x.record_id)}::bigint[])
+				where e.method_version = ${part[0].method_version} and e.record_id = any(${part.map((x) => x.record_id)}::bigint[])
 			),
 			old_keys as (${footprintKeysOf('old')}),
-			written as (
-				insert into record_estimates (record_id, method_version, counted, reason, credited_acres,
-					n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high,
-					district_id, county_fips, huc8, practice_code, field_id, operation_key, cost_usd, cost_share_usd,
-					state_fy_start_month, state_fy_installed, state_fy_first, state_fy_last,
-					federal_fy_installed, federal_fy_first, federal_fy_last, computed_at)
-				select u.*, now() from unnest(
-					${col((x) => x.record_id)}::bigint[], ${col((x) => x.method_version)}::text[], ${col((x) => x.counted)}::boolean[],
-					${col((x) => x.reason)}::text[], ${col((x) => x.credited_acres)}::numeric[],
-					${col((x) => x.n_lb.mean)}::numeric[], ${col((x) => x.n_lb.low)}::numeric[], ${col((x) => x.n_lb.high)}::numeric[],
-					${col((x) => x.p_lb.mean)}::numeric[], ${col((x) => x.p_lb.low)}::numeric[], ${col((x) => x.p_lb.high)}::numeric[],
-					${col((x) => x.district_id)}::int[], ${col((x) => x.county_fips)}::char(5)[], ${col((x) => x.huc8)}::char(8)[],
-					${col((x) => x.practice_code)}::text[], ${col((x) => x.field_id)}::text[], ${col((x) => x.operation_key)}::text[],
-					${col((x) => x.cost_usd)}::numeric[], ${col((x) => x.cost_share_usd)}::numeric[],
-					${col((x) => x.state_fy_start_month)}::smallint[], ${col((x) => x.state.installed)}::int[],
-					${col((x) => x.state.first)}::int[], ${col((x) => x.state.last)}::int[],
-					${col((x) => x.federal.installed)}::int[], ${col((x) => x.federal.first)}::int[], ${col((x) => x.federal.last)}::int[]
-				) as u
-				on conflict (record_id, method_version) do update set
-					counted = excluded.counted, reason = excluded.reason, credited_acres = excluded.credited_acres,
-					n_lb_mean = excluded.n_lb_mean, n_lb_low = excluded.n_lb_low, n_lb_high = excluded.n_lb_high,
-					p_lb_mean = excluded.p_lb_mean, p_lb_low = excluded.p_lb_low, p_lb_high = excluded.p_lb_high,
-					district_id = excluded.district_id, county_fips = excluded.county_fips, huc8 = excluded.huc8,
-					practice_code = excluded.practice_code, field_id = excluded.field_id, operation_key = excluded.operation_key,
-					cost_usd = excluded.cost_usd, cost_share_usd = excluded.cost_share_usd,
-					state_fy_start_month = excluded.state_fy_start_month, state_fy_installed = excluded.state_fy_installed,
-					state_fy_first = excluded.state_fy_first, state_fy_last = excluded.state_fy_last,
-					federal_fy_installed = excluded.federal_fy_installed, federal_fy_first = excluded.federal_fy_first,
-					federal_fy_last = excluded.federal_fy_last, computed_at = excluded.computed_at
-				returning *
-			),
+			written as (${upsertFacts(part)} returning *),
 			new_keys as (${footprintKeysOf('written')})
 			select * from old_keys union select * from new_keys`.execute(db);
 		keys.push(...rows);
@@ -132,99 +150,101 @@ export async function writeFacts(db: Db, facts: readonly RecordFact[]): Promise<
 // --- summary cells ---------------------------------------------------------------------------------------
 
 /** A summary key whose cells (every geography and practice level) are recomputed together. */
-export interface CellKey {
-	district_id: number;
-	fy_basis: 'state' | 'federal';
-	basis: 'installed' | 'in_service';
-	fy: number;
+export type CellKey = SummaryKey;
+
+/** Facts of these districts under a method, amounts scaled to integers (see rollup-cells.ts). */
+export async function loadCellFacts(db: Db, methodVersion: string, districtIds: readonly number[]): Promise<CellFact[]> {
+	if (districtIds.length === 0) return [];
+	const { rows } = await sql<{
+		district_id: number;
+		county_fips: string;
+		huc8: string | null;
+		practice_code: string;
+		operation_key: string;
+		s_i: number;
+		s_f: number | null;
+		s_l: number | null;
+		f_i: number;
+		f_f: number | null;
+		f_l: number | null;
+		acres: number;
+		cost: number;
+		cost_share: number;
+		n_mean: number;
+		n_low: number;
+		n_high: number;
+		p_mean: number;
+		p_low: number;
+		p_high: number;
+	}>`
+		select district_id, county_fips, huc8, practice_code, operation_key,
+			state_fy_installed as s_i, state_fy_first as s_f, state_fy_last as s_l,
+			federal_fy_installed as f_i, federal_fy_first as f_f, federal_fy_last as f_l,
+			(credited_acres * 10000)::int8::float8 as acres, (coalesce(cost_usd, 0) * 100)::int8::float8 as cost,
+			(coalesce(cost_share_usd, 0) * 100)::int8::float8 as cost_share,
+			(n_lb_mean * 1000000)::int8::float8 as n_mean, (n_lb_low * 1000000)::int8::float8 as n_low, (n_lb_high * 1000000)::int8::float8 as n_high,
+			(p_lb_mean * 1000000)::int8::float8 as p_mean, (p_lb_low * 1000000)::int8::float8 as p_low, (p_lb_high * 1000000)::int8::float8 as p_high
+		from record_estimates where method_version = ${methodVersion} and district_id = any(${[...districtIds]}::int[])`.execute(db);
+	return rows.map((r) => ({
+		district_id: r.district_id,
+		county_fips: r.county_fips,
+		huc8: r.huc8,
+		practice_code: r.practice_code,
+		operation_key: r.operation_key,
+		state: { installed: r.s_i, first: r.s_f, last: r.s_l },
+		federal: { installed: r.f_i, first: r.f_f, last: r.f_l },
+		acres: r.acres,
+		cost: r.cost,
+		cost_share: r.cost_share,
+		n_mean: r.n_mean,
+		n_low: r.n_low,
+		n_high: r.n_high,
+		p_mean: r.p_mean,
+		p_low: r.p_low,
+		p_high: r.p_high
+	}));
 }
 
-/**
- * The body of every cell computation: the facts of the given scope (amounts turned into integers once — cents,
- * 1/10,000 acre, millionths of a pound — so sums are exact and fast) expanded to one row per fiscal year
- * counted (installed and in-service bases, state and federal FYs), then summed by district × FY at six levels
- * — county × practice, county, HUC-8 × practice, HUC-8, practice, all — with hash GROUPING SETS. Distinct
- * operations come from a second pass: one row per (level key, operation), counted per level key.
- */
-function cellsSelect(methodVersion: string, factsWhere: RawBuilder<unknown>, keyJoin: RawBuilder<unknown>) {
-	const levels = sql`grouping sets ((county_fips, practice_code), (county_fips), (huc8, practice_code), (huc8), (practice_code), ())`;
-	const keyCols = sql`
-		case when grouping(county_fips) = 0 then 'county' when grouping(huc8) = 0 then 'huc8' else 'district' end as geo_level,
-		case when grouping(county_fips) = 0 then county_fips::text when grouping(huc8) = 0 then coalesce(huc8::text, '') else '' end as geo,
-		case when grouping(practice_code) = 0 then practice_code else '*' end as practice_code`;
-	return sql`
-		with facts as (
-			select e.district_id, e.county_fips, e.huc8, e.practice_code, e.operation_key,
-				e.state_fy_installed, e.state_fy_first, e.state_fy_last, e.federal_fy_installed, e.federal_fy_first, e.federal_fy_last,
-				(e.credited_acres * 10000)::int8 as acres, (coalesce(e.cost_usd, 0) * 100)::int8 as cost,
-				(coalesce(e.cost_share_usd, 0) * 100)::int8 as cost_share,
-				(e.n_lb_mean * 1000000)::int8 as n_mean, (e.n_lb_low * 1000000)::int8 as n_low, (e.n_lb_high * 1000000)::int8 as n_high,
-				(e.p_lb_mean * 1000000)::int8 as p_mean, (e.p_lb_low * 1000000)::int8 as p_low, (e.p_lb_high * 1000000)::int8 as p_high
-			from record_estimates e where e.method_version = ${methodVersion} and ${factsWhere}
-		),
-		x as materialized (
-			select v.fy_basis, v.basis, g.fy, f.*
-			from facts f
-			cross join lateral (values
-				('state', 'installed', f.state_fy_installed, f.state_fy_installed),
-				('state', 'in_service', f.state_fy_first, f.state_fy_last),
-				('federal', 'installed', f.federal_fy_installed, f.federal_fy_installed),
-				('federal', 'in_service', f.federal_fy_first, f.federal_fy_last)
-			) as v(fy_basis, basis, fy_from, fy_to)
-			cross join lateral rollup_fy_span(v.fy_from, v.fy_to) as g(fy)
-			${keyJoin}
-		),
-		sums as (
-			select fy_basis, basis, fy, district_id, ${keyCols}, count(*)::int as practices,
-				sum(acres) as acres, sum(cost) as cost, sum(cost_share) as cost_share,
-				sum(n_mean) as n_mean, sum(n_low) as n_low, sum(n_high) as n_high, sum(p_mean) as p_mean, sum(p_low) as p_low, sum(p_high) as p_high
-			from x group by fy_basis, basis, fy, district_id, ${levels}
-		),
-		op_pairs as (
-			select fy_basis, basis, fy, district_id, ${keyCols}
-			from x group by fy_basis, basis, fy, district_id, operation_key, ${levels}
-		),
-		ops as (
-			select fy_basis, basis, fy, district_id, geo_level, geo, practice_code, count(*)::int as operations
-			from op_pairs group by fy_basis, basis, fy, district_id, geo_level, geo, practice_code
-		)
-		select ${methodVersion}::text as method_version, s.fy_basis, s.basis, s.geo_level, s.fy, s.district_id, s.geo, s.practice_code,
-			s.practices, o.operations, s.acres / 10000.0, s.cost / 100.0, s.cost_share / 100.0,
-			s.n_mean / 1000000.0, s.n_low / 1000000.0, s.n_high / 1000000.0, s.p_mean / 1000000.0, s.p_low / 1000000.0, s.p_high / 1000000.0
-		from sums s join ops o using (fy_basis, basis, fy, district_id, geo_level, geo, practice_code)`;
+/** Writes cells (integer amounts turned back into dollars, acres and pounds). */
+async function insertCells(db: Db, methodVersion: string, cells: readonly CellRow[]): Promise<void> {
+	for (let i = 0; i < cells.length; i += CHUNK) {
+		const part = cells.slice(i, i + CHUNK);
+		const col = <T>(f: (c: CellRow) => T): T[] => part.map(f);
+		await sql`
+			insert into rollup_cells (method_version, fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations,
+				credited_acres, cost_usd, cost_share_usd, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high)
+			select ${methodVersion}, u.fy_basis, u.basis, u.geo_level, u.fy, u.district_id, u.geo, u.practice_code, u.practices, u.operations,
+				u.acres / 10000.0, u.cost / 100.0, u.cost_share / 100.0, u.n_mean / 1000000.0, u.n_low / 1000000.0, u.n_high / 1000000.0,
+				u.p_mean / 1000000.0, u.p_low / 1000000.0, u.p_high / 1000000.0
+			from unnest(${col((c) => c.fy_basis)}::text[], ${col((c) => c.basis)}::text[], ${col((c) => c.geo_level)}::text[],
+				${col((c) => c.fy)}::int[], ${col((c) => c.district_id)}::int[], ${col((c) => c.geo)}::text[], ${col((c) => c.practice_code)}::text[],
+				${col((c) => c.practices)}::int[], ${col((c) => c.operations)}::int[], ${col((c) => c.acres)}::int8[], ${col((c) => c.cost)}::int8[],
+				${col((c) => c.cost_share)}::int8[], ${col((c) => c.n_mean)}::int8[], ${col((c) => c.n_low)}::int8[], ${col((c) => c.n_high)}::int8[],
+				${col((c) => c.p_mean)}::int8[], ${col((c) => c.p_low)}::int8[], ${col((c) => c.p_high)}::int8[])
+				as u(fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations, acres, cost, cost_share,
+					n_mean, n_low, n_high, p_mean, p_low, p_high)`.execute(db);
+	}
 }
 
-const CELL_COLUMNS = sql`(method_version, fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations,
-	credited_acres, cost_usd, cost_share_usd, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high)`;
-
-/** Recomputes the cells of these keys from the stored facts (delete, then insert what the facts give). */
+/** Recomputes the cells of these keys from the stored facts of their districts (delete, then insert). */
 export async function recomputeCells(db: Db, methodVersion: string, keys: readonly CellKey[]): Promise<void> {
 	if (keys.length === 0) return;
 	const d = keys.map((k) => k.district_id);
-	const fb = keys.map((k) => k.fy_basis);
-	const b = keys.map((k) => k.basis);
-	const fy = keys.map((k) => k.fy);
-	const aff = sql`(select distinct * from unnest(${d}::int[], ${fb}::text[], ${b}::text[], ${fy}::int[]) as a(district_id, fy_basis, basis, fy))`;
 	await sql`
-		delete from rollup_cells c using ${aff} as a
+		delete from rollup_cells c
+		using unnest(${d}::int[], ${keys.map((k) => k.fy_basis)}::text[], ${keys.map((k) => k.basis)}::text[], ${keys.map((k) => k.fy)}::int[])
+			as a(district_id, fy_basis, basis, fy)
 		where c.method_version = ${methodVersion} and c.district_id = a.district_id and c.fy_basis = a.fy_basis
 			and c.basis = a.basis and c.fy = a.fy`.execute(db);
-	await sql`insert into rollup_cells ${CELL_COLUMNS} ${cellsSelect(
-		methodVersion,
-		sql`e.district_id = any(${[...new Set(d)]}::int[])`,
-		sql`join ${aff} as a on a.district_id = f.district_id and a.fy_basis = v.fy_basis and a.basis = v.basis and a.fy = g.fy`
-	)}`.execute(db);
+	const facts = await loadCellFacts(db, methodVersion, [...new Set(d)]);
+	await insertCells(db, methodVersion, aggregateCells(facts, new Set(keys.map(summaryKeyId))));
 }
 
 /** Recomputes every cell of these districts (used by a full rebuild). */
 export async function recomputeDistrictCells(db: Db, methodVersion: string, districtIds: readonly number[]): Promise<void> {
 	if (districtIds.length === 0) return;
 	await sql`delete from rollup_cells where method_version = ${methodVersion} and district_id = any(${[...districtIds]}::int[])`.execute(db);
-	await sql`insert into rollup_cells ${CELL_COLUMNS} ${cellsSelect(
-		methodVersion,
-		sql`e.district_id = any(${[...districtIds]}::int[])`,
-		sql``
-	)}`.execute(db);
+	await insertCells(db, methodVersion, aggregateCells(await loadCellFacts(db, methodVersion, districtIds)));
 }
 
 // --- refresh state ---------------------------------------------------------------------------------------
@@ -287,8 +307,9 @@ export async function refreshRecords(trx: Transaction<Database>, recordIds: read
 /** Re-estimates records (with field-mates) and, when `cells`, recomputes the cells their old and new footprints touch. */
 async function refreshFacts(db: Db, method: ReductionMethod, ids: readonly string[], startMonth: number, cells: boolean): Promise<number> {
 	const records = await loadFactRecords(db, ids, method.version);
-	const keys = await writeFacts(db, recordFacts(records, method, startMonth));
-	if (cells) await recomputeCells(db, method.version, keys);
+	const facts = recordFacts(records, method, startMonth);
+	if (!cells) await writeFacts(db, facts);
+	else await recomputeCells(db, method.version, await writeFactsWithKeys(db, facts));
 	return records.length;
 }
 
@@ -301,63 +322,57 @@ function dedupeKeys(keys: readonly CellKey[]): CellKey[] {
 // --- full rebuild ------------------------------------------------------------------------------------------
 
 export interface RebuildProgress {
-	phase: 'estimates' | 'cells';
+	/** Records re-estimated so far, with their districts' cells. */
 	done: number;
 	total: number;
 }
 
+/** Records per rebuild transaction (whole districts are kept together). */
+const REBUILD_RECORDS = 25_000;
+
 /**
- * Rebuilds one method version's estimates and cells from all records. Marks it `running` with progress,
- * then `ready` — unless records changed meanwhile while another method was active (then it stays `stale`).
+ * Rebuilds one method version's estimates and cells from all records, a few whole districts per transaction
+ * (estimates, then those districts' cells, atomically). Marks it `running` with progress, then `ready` —
+ * unless records changed meanwhile while another method was active (then it stays `stale`).
  * Returns false when the method version does not exist.
  */
 export async function rebuildMethod(db: Kysely<Database>, version: string, onProgress?: (p: RebuildProgress) => void): Promise<boolean> {
 	const method = await loadMethod(db, version);
 	if (!method) return false;
 	const startMonth = await stateFyStartMonth(db);
-	const total = Number((await sql<{ n: string }>`select count(*) as n from records`.execute(db)).rows[0].n);
+	const { rows: sizes } = await sql<{ district_id: number; n: number }>`
+		select district_id, sum(n)::int as n from (
+			select district_id, count(*) as n from records group by district_id
+			union all select district_id, 0 from rollup_cells where method_version = ${version} group by district_id
+		) t group by district_id order by district_id`.execute(db);
+	const total = sizes.reduce((a, d) => a + d.n, 0);
 	await sql`
 		insert into rollup_refresh (method_version, status, state_fy_start_month, phase, done, total, started_at, finished_at, error, updated_at)
-		values (${version}, 'running', ${startMonth}, 'estimates', 0, ${total}, now(), null, null, now())
+		values (${version}, 'running', ${startMonth}, 'records', 0, ${total}, now(), null, null, now())
 		on conflict (method_version) do update set status = 'running', state_fy_start_month = excluded.state_fy_start_month,
-			phase = 'estimates', done = 0, total = excluded.total, started_at = now(), finished_at = null, error = null, updated_at = now()`.execute(db);
-	const progress = async (phase: RebuildProgress['phase'], done: number, of: number) => {
-		await db
-			.updateTable('rollup_refresh')
-			.set({ phase, done, total: of, updated_at: sql`now()` as unknown as Date })
-			.where('method_version', '=', version)
-			.execute();
-		onProgress?.({ phase, done, total: of });
-	};
+			phase = 'records', done = 0, total = excluded.total, started_at = now(), finished_at = null, error = null, updated_at = now()`.execute(db);
 	try {
-		// Phase 1: estimates, by record-id ranges.
-		let last = '0';
 		let done = 0;
-		for (;;) {
-			const chunk = await db.selectFrom('records').select('id').where('id', '>', last).orderBy('id').limit(CHUNK).execute();
-			if (chunk.length === 0) break;
-			const ids = chunk.map((r) => String(r.id));
+		for (let i = 0; i < sizes.length;) {
+			const part: number[] = [];
+			let n = 0;
+			while (i < sizes.length && (part.length === 0 || n + sizes[i].n <= REBUILD_RECORDS)) {
+				part.push(sizes[i].district_id);
+				n += sizes[i].n;
+				i++;
+			}
 			await db.transaction().execute(async (trx) => {
 				await lockRollups(trx);
-				await refreshFacts(trx, method, ids, startMonth, false);
-			});
-			last = ids[ids.length - 1];
-			done += ids.length;
-			await progress('estimates', Math.min(done, total), Math.max(total, done));
-		}
-		// Phase 2: cells, a few districts per transaction (plus any district that only has old cells).
-		const { rows } = await sql<{ district_id: number }>`
-			select district_id from record_estimates where method_version = ${version}
-			union select district_id from rollup_cells where method_version = ${version}
-			order by 1`.execute(db);
-		const districts = rows.map((r) => r.district_id);
-		for (let i = 0; i < districts.length; i += DISTRICT_CHUNK) {
-			const part = districts.slice(i, i + DISTRICT_CHUNK);
-			await db.transaction().execute(async (trx) => {
-				await lockRollups(trx);
+				await writeFacts(trx, recordFacts(await loadDistrictRecords(trx, part), method, startMonth));
 				await recomputeDistrictCells(trx, version, part);
 			});
-			await progress('cells', Math.min(i + part.length, districts.length), districts.length);
+			done += n;
+			await db
+				.updateTable('rollup_refresh')
+				.set({ done, updated_at: sql`now()` as unknown as Date })
+				.where('method_version', '=', version)
+				.execute();
+			onProgress?.({ done, total });
 		}
 		await sql`
 			update rollup_refresh set status = 'ready', phase = null, finished_at = now(), updated_at = now()

@@ -6,8 +6,9 @@
 import { sql } from 'kysely';
 import { getDb } from '../db';
 import { logger } from '../log';
+import { onActiveMethodChanged } from '../methods';
 import { activeMethodVersion } from './method-source';
-import { rebuildMethod, requestRebuild, summaryState } from './refresh';
+import { isCurrent, rebuildMethod, requestRebuild, summaryState } from './refresh';
 import { stateFyStartMonth } from './settings';
 
 const POLL_MS = Number(process.env.ROLLUP_POLL_MS ?? 2000);
@@ -17,6 +18,7 @@ const STUCK_AFTER = '5 minutes';
 const RETRY_FAILED_AFTER = '1 minute';
 
 let timer: NodeJS.Timeout | undefined;
+let listening = false;
 let running: Promise<void> | undefined;
 let stopping = false;
 
@@ -29,7 +31,8 @@ export async function rollupTick(): Promise<string | null> {
 		const startMonth = await stateFyStartMonth(db);
 		const failedLongAgo =
 			state?.status === 'failed' &&
-			(await sql<{ due: boolean }>`select ${state.updated_at}::timestamptz < now() - ${RETRY_FAILED_AFTER}::interval as due`.execute(db)).rows[0].due;
+			(await sql<{ due: boolean }>`select ${state.updated_at}::timestamptz < now() - ${RETRY_FAILED_AFTER}::interval as due`.execute(db))
+				.rows[0].due;
 		if (!state || state.status === 'stale' || failedLongAgo || (state.status === 'ready' && state.state_fy_start_month !== startMonth)) {
 			await requestRebuild(db, version);
 		}
@@ -73,6 +76,14 @@ export const rollupService = {
 	name: 'rollups',
 	start() {
 		stopping = false;
+		if (!listening) {
+			listening = true;
+			// A newly active method without a current summary is queued in the same transaction as the switch.
+			onActiveMethodChanged(async (trx, change) => {
+				const [state, startMonth] = await Promise.all([summaryState(trx, change.to), stateFyStartMonth(trx)]);
+				if (!isCurrent(state, startMonth)) await requestRebuild(trx, change.to);
+			});
+		}
 		schedule();
 	},
 	async stop() {

@@ -11,7 +11,9 @@ export const SETTING_KEYS = {
 	stateFyStartMonth: 'state_fy_start_month',
 	smallCellK: 'small_cell_k',
 	stateGoal: 'state_goal',
-	hubStateFips: 'hub_state_fips'
+	hubStateFips: 'hub_state_fips',
+	/** Owned by the methods area (src/lib/server/methods.ts, ACTIVE_METHOD_SETTING); read here with the others. */
+	activeMethod: 'active_method_version'
 } as const;
 
 /** Largest k the small-cell rule accepts from settings (a typo must not wipe out every cell). */
@@ -27,7 +29,11 @@ export interface StateGoal {
 }
 
 export async function readSettings(db: Db, keys: readonly string[]): Promise<Map<string, unknown>> {
-	const rows = await db.selectFrom('settings').select(['key', 'value']).where('key', 'in', [...keys]).execute();
+	const rows = await db
+		.selectFrom('settings')
+		.select(['key', 'value'])
+		.where('key', 'in', [...keys])
+		.execute();
 	return new Map(rows.map((r) => [r.key, r.value]));
 }
 
