@@ -9,7 +9,8 @@ export interface NavItem {
 
 export const NAV: NavItem[] = [
 	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
-	{ href: '/dashboard', label: 'Dashboard', roles: ['admin', 'manager', 'district'] }
+	{ href: '/dashboard', label: 'Dashboard', roles: ['admin', 'manager', 'district'] },
+	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

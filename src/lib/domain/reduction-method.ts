@@ -112,9 +112,10 @@ export function methodCitations(method: ReductionMethod): Citation[] {
 	});
 }
 
-export function formatCitation(c: Citation): string {
+/** "Title, Publisher, Year, Section" and, unless told not to, " (from memory)" for recalled values. */
+export function formatCitation(c: Citation, opts: { markRecalled?: boolean } = {}): string {
 	const parts = [c.title, c.publisher, c.year === null ? null : String(c.year), c.section].filter((x): x is string => !!x);
-	return parts.join(', ') + (c.recalled ? ' (from memory)' : '');
+	return parts.join(', ') + (c.recalled && opts.markRecalled !== false ? ' (from memory)' : '');
 }
 
 /** Problems a method has beyond its shape (the zod schema checks the shape); empty when it is sound. */

@@ -1,7 +1,7 @@
 // GET /api/v1/rollups: the query it takes and the answer it gives. Shared by the server (validation),
 // the dashboard and CLI (types) and the OpenAPI generator (`registerRollupsOpenApi`).
 import { z } from 'zod';
-import { FyRangeError, parseFyRange } from '$lib/domain/fiscal-year';
+import { FyRangeError, parseFyRange } from '../domain/fiscal-year';
 
 /** Dimensions a grouping may name. Every grouping is per fiscal year: `fy` is added when left out. */
 export const ROLLUP_DIMENSIONS = ['district', 'county', 'huc8', 'practice', 'fy'] as const;

@@ -133,6 +133,17 @@ export interface MailMessagesTable {
 	created_at: Generated<Date>;
 }
 
+// --- reduction methods (estimates) --------------------------------------------------------------
+export interface ReductionMethodsTable {
+	id: Generated<number>;
+	version: string;
+	label: string;
+	/** The whole method document (src/lib/domain/reduction-method.ts `ReductionMethod`). */
+	method: ColumnType<import('../../domain/reduction-method').ReductionMethod, string, string>;
+	created_by: string;
+	created_at: Generated<Date>;
+}
+
 // --- rollups: stored estimates and summary cells ------------------------------------------------------
 export interface RecordEstimatesTable {
 	record_id: string;
@@ -211,6 +222,7 @@ export interface Database {
 	records: RecordsTable;
 	record_versions: RecordVersionsTable;
 	mail_messages: MailMessagesTable;
+	reduction_methods: ReductionMethodsTable;
 	record_estimates: RecordEstimatesTable;
 	rollup_cells: RollupCellsTable;
 	rollup_refresh: RollupRefreshTable;
