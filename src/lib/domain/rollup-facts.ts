@@ -104,9 +104,17 @@ function estimateGroup(group: readonly FactRecord[], method: ReductionMethod): M
 export function recordFacts(records: readonly FactRecord[], method: ReductionMethod, stateFyStartMonth: number): RecordFact[] {
 	const estimates = new Map<FactRecord, RecordEstimate>();
 	for (const g of groupByField(records)) for (const [r, e] of estimateGroup(g, method)) estimates.set(r, e);
+	// Many records share an install date, lifespan and withdrawal: work out each combination's FYs once.
+	const spans = new Map<string, { state: FySpans; federal: FySpans }>();
 	return records.map((r) => {
 		const e = estimates.get(r)!;
 		const life = lifespanFor(method, r);
+		const spanKey = `${r.installed_on}|${life}|${r.status}|${r.withdrawn_on ?? ''}`;
+		let span = spans.get(spanKey);
+		if (!span) {
+			span = { state: fySpans(r, life, 'state', stateFyStartMonth), federal: fySpans(r, life, 'federal', stateFyStartMonth) };
+			spans.set(spanKey, span);
+		}
 		return {
 			record_id: String(r.id),
 			method_version: method.version,
@@ -124,8 +132,8 @@ export function recordFacts(records: readonly FactRecord[], method: ReductionMet
 			cost_usd: money(r.cost_total_usd),
 			cost_share_usd: money(r.cost_share_usd),
 			state_fy_start_month: stateFyStartMonth,
-			state: fySpans(r, life, 'state', stateFyStartMonth),
-			federal: fySpans(r, life, 'federal', stateFyStartMonth)
+			state: { ...span.state },
+			federal: { ...span.federal }
 		};
 	});
 }

@@ -238,10 +238,10 @@ export const RollupCell = RollupMeasures.extend({
 		.optional()
 		.meta({ description: 'Researcher answers: the level a county row is published at after the small-cell rule' }),
 	area_name: z.string().optional()
-}).meta({ id: 'RollupCell' });
+});
 export type RollupCell = z.infer<typeof RollupCell>;
 
-export const RollupTotal = RollupMeasures.extend({ fy: z.number().int() }).meta({ id: 'RollupTotal' });
+export const RollupTotal = RollupMeasures.extend({ fy: z.number().int() });
 export type RollupTotal = z.infer<typeof RollupTotal>;
 
 export const RollupGroupingResult = z.object({
@@ -260,42 +260,38 @@ export const SmallCellReport = z
 		generalised_to_state: z.number().int(),
 		suppressed: z.number().int()
 	})
-	.meta({ id: 'RollupSmallCells', description: 'Researcher answers: what the small-cell rule generalised or suppressed' });
+	.meta({ description: 'Researcher answers: what the small-cell rule generalised or suppressed' });
 
-export const RollupResponse = z
-	.object({
-		method_version: z.string(),
-		fy_basis: z.enum(FY_BASES),
-		state_fy_start_month: z.number().int(),
-		basis: z.enum(COUNT_BASES),
-		fy: z.object({ from: z.number().int(), to: z.number().int() }),
-		filters: z.object({
-			district: z.string().nullable(),
-			county: z.string().nullable(),
-			practice: z.string().nullable()
-		}),
-		refreshed_at: z
-			.string()
-			.nullable()
-			.meta({ description: 'When this method’s summary was last rebuilt in full (later changes are applied incrementally)' }),
-		groupings: z.array(RollupGroupingResult),
-		small_cells: SmallCellReport.nullable(),
-		notes: z.array(z.string())
-	})
-	.meta({ id: 'RollupResponse' });
+export const RollupResponse = z.object({
+	method_version: z.string(),
+	fy_basis: z.enum(FY_BASES),
+	state_fy_start_month: z.number().int(),
+	basis: z.enum(COUNT_BASES),
+	fy: z.object({ from: z.number().int(), to: z.number().int() }),
+	filters: z.object({
+		district: z.string().nullable(),
+		county: z.string().nullable(),
+		practice: z.string().nullable()
+	}),
+	refreshed_at: z
+		.string()
+		.nullable()
+		.meta({ description: 'When this method’s summary was last rebuilt in full (later changes are applied incrementally)' }),
+	groupings: z.array(RollupGroupingResult),
+	small_cells: SmallCellReport.nullable(),
+	notes: z.array(z.string())
+});
 export type RollupResponse = z.infer<typeof RollupResponse>;
 
 /** 202: the summary for this method version is being built; ask again after `Retry-After` seconds. */
-export const RollupPending = z
-	.object({
-		status: z.enum(['pending', 'running']),
-		method_version: z.string(),
-		phase: z.string().nullable(),
-		done: z.number().int(),
-		total: z.number().int(),
-		detail: z.string()
-	})
-	.meta({ id: 'RollupPending' });
+export const RollupPending = z.object({
+	status: z.enum(['pending', 'running']),
+	method_version: z.string(),
+	phase: z.string().nullable(),
+	done: z.number().int(),
+	total: z.number().int(),
+	detail: z.string()
+});
 export type RollupPending = z.infer<typeof RollupPending>;
 
 /** The query parameters as OpenAPI sees them (all strings in the URL). */
@@ -314,45 +310,66 @@ export const RollupQueryParams = z.object({
 	format: z.enum(ROLLUP_FORMATS).optional()
 });
 
-/** Minimal shape of zod-to-openapi's registry, so this file needs no import of it. */
+/** The part of zod-to-openapi's OpenAPIRegistry used here (so this file, shared with the browser, needs no import of it). */
 interface RegistryLike {
+	register<T extends z.ZodType>(refId: string, schema: T): T;
 	registerPath(route: Record<string, unknown>): void;
 }
 
 /**
- * Registers GET /api/v1/rollups with the OpenAPI registry (src/lib/schema/openapi.ts, once it exists:
- * call `registerRollupsOpenApi(registry)` there).
+ * Registers GET /api/v1/rollups with the OpenAPI registry. Wire it from the registry folder, e.g. a module
+ * `src/lib/schema/api/rollups.ts` imported by its index:
+ *
+ *     registerRollupsOpenApi(registry, { security: needsToken('rollups:read'), problems });
+ *
+ * Schemas are registered as `.meta()` copies, made after zod's OpenAPI extension has been applied.
  */
-export function registerRollupsOpenApi(registry: RegistryLike, problemSchema?: z.ZodType): void {
-	const problem = problemSchema ?? z.object({ type: z.string(), status: z.number(), title: z.string(), detail: z.string().optional() });
+export function registerRollupsOpenApi(
+	registry: RegistryLike,
+	opts: { security?: unknown; problems?: Record<number, unknown> } = {}
+): void {
+	const response = registry.register(
+		'RollupResponse',
+		RollupResponse.meta({ description: 'A rollup: cells and totals per grouping, method and bases echoed.' })
+	);
+	const pending = registry.register(
+		'RollupPending',
+		RollupPending.meta({ description: 'The summary for this method version is being built.' })
+	);
+	const fallback = z.object({ type: z.string(), status: z.number(), title: z.string(), detail: z.string().optional() });
+	const err = (status: number, description: string) =>
+		(opts.problems?.[status] as object | undefined) ?? { description, content: { 'application/problem+json': { schema: fallback } } };
 	registry.registerPath({
 		method: 'get',
 		path: '/api/v1/rollups',
+		tags: ['Rollups'],
 		summary: 'Totals by county, HUC-8 or district × fiscal year × practice',
-		description:
-			'Practices, distinct operations, credited acres, dollars and estimated N and P reductions per cell, from summaries ' +
-			'maintained as records change. Scope `rollups:read`. District accounts see their own district; researchers get ' +
-			'county × FY × practice cells with the small-cell rule applied.',
-		tags: ['rollups'],
-		security: [{ bearer: [] }],
+		description: [
+			'Practices, distinct operations, credited acres, dollars and estimated N and P reductions per cell, read from summaries maintained as records change (never computed from the records on a request), with one totals row per FY.',
+			'',
+			'District accounts see their own district. Researchers get `county,fy,practice` cells with the small-cell rule applied (cells under k distinct operations generalised to the region or the state, or suppressed; `small_cells` counts them).',
+			'',
+			'`format=csv` (one grouping; text cells a spreadsheet would read as a formula are prefixed with `\'`) and `format=xlsx` (a sheet per grouping, "Method and sources", "Notes") are streamed downloads.'
+		].join('\n'),
+		security: opts.security ?? [{ bearerAuth: ['rollups:read'] }],
 		request: { query: RollupQueryParams },
 		responses: {
 			200: {
 				description: 'The rollup (JSON), or a CSV / XLSX download',
 				content: {
-					'application/json': { schema: RollupResponse },
+					'application/json': { schema: response },
 					'text/csv': { schema: z.string() },
 					'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet': { schema: z.string().meta({ format: 'binary' }) }
 				}
 			},
 			202: {
-				description: 'The summary for this method version is being built; retry after Retry-After seconds',
-				content: { 'application/json': { schema: RollupPending } }
+				description: 'The summary for this method version is being built; ask again after Retry-After seconds.',
+				content: { 'application/json': { schema: pending } }
 			},
-			400: { description: 'Bad query', content: { 'application/problem+json': { schema: problem } } },
-			401: { description: 'No or bad token', content: { 'application/problem+json': { schema: problem } } },
-			403: { description: 'Missing scope or another district', content: { 'application/problem+json': { schema: problem } } },
-			404: { description: 'Unknown method version or district', content: { 'application/problem+json': { schema: problem } } }
+			400: err(400, 'Bad query'),
+			401: err(401, 'No or bad token'),
+			403: err(403, 'Missing scope, or another district'),
+			404: err(404, 'Unknown method version or district')
 		}
 	});
 }

@@ -20,7 +20,7 @@ import {
 } from '$lib/schema/rollups';
 import { activeMethodVersion, loadMethod } from './method-source';
 import { isCurrent, requestRebuild, summaryState } from './refresh';
-import { readSettings, SETTING_KEYS, smallCellKOf, stateFyStartMonthOf } from './settings';
+import { SETTING_KEYS, smallCellKOf, stateFyStartMonthOf } from './settings';
 
 export type RollupOutcome =
 	{ kind: 'ready'; response: RollupResponse; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
@@ -31,22 +31,37 @@ interface Lookups {
 	districts: Map<number, { code: string; name: string; region: string }>;
 }
 
-/** Names for the answer: practices and districts (short lists) and the counties of the hub state. */
-async function lookups(db: Kysely<Database>): Promise<Lookups> {
-	const [counties, practices, districts] = await Promise.all([
-		sql<{ fips: string; name: string }>`
-			select fips, name from counties
-			where state_fips = (select coalesce((select lpad(value #>> '{}', 2, '0') from settings where key = 'hub_state_fips'), '19'))`
-			.execute(db)
-			.then((r) => r.rows),
-		db.selectFrom('practices').select(['code', 'name']).execute(),
-		db.selectFrom('districts').select(['id', 'code', 'name', 'region']).execute()
-	]);
-	return {
-		counties: new Map(counties.map((c) => [c.fips, c.name])),
-		practices: new Map(practices.map((p) => [p.code, p.name])),
-		districts: new Map(districts.map((d) => [d.id, { code: d.code, name: d.name, region: d.region }]))
+type RefreshRow = Awaited<ReturnType<typeof summaryState>>;
+
+/**
+ * Everything a rollup request needs besides the cells, in one statement (one round trip): the settings it
+ * reads, every method's summary state, and the names of counties (hub state), practices and districts.
+ */
+async function readContext(db: Kysely<Database>) {
+	const keys = [SETTING_KEYS.stateFyStartMonth, SETTING_KEYS.smallCellK, SETTING_KEYS.hubStateFips, SETTING_KEYS.activeMethod];
+	const { rows } = await sql<{
+		settings: Record<string, unknown> | null;
+		states: Array<NonNullable<RefreshRow>> | null;
+		counties: [string, string][] | null;
+		practices: [string, string][] | null;
+		districts: [number, string, string, string][] | null;
+	}>`
+		select
+			(select json_object_agg(key, value) from settings where key = any(${keys}::text[])) as settings,
+			(select json_agg(r) from rollup_refresh r) as states,
+			(select json_agg(json_build_array(fips, name)) from counties
+				where state_fips = coalesce((select lpad(value #>> '{}', 2, '0') from settings where key = ${SETTING_KEYS.hubStateFips}), '19')) as counties,
+			(select json_agg(json_build_array(code, name)) from practices) as practices,
+			(select json_agg(json_build_array(id, code, name, region)) from districts) as districts`.execute(db);
+	const r = rows[0];
+	const settings = new Map(Object.entries(r.settings ?? {}));
+	const names: Lookups = {
+		counties: new Map(r.counties ?? []),
+		practices: new Map(r.practices ?? []),
+		districts: new Map((r.districts ?? []).map(([id, code, name, region]) => [id, { code, name, region }]))
 	};
+	const states = (r.states ?? []).map((x) => ({ ...x, finished_at: x.finished_at ? new Date(x.finished_at) : null }));
+	return { settings, states, names };
 }
 
 /** Resolves a district filter (code or id) to an id; 404 when unknown. */
@@ -214,11 +229,9 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		throw new ApiError({ status: 403, detail: 'This district account is not bound to a district.' });
 	}
 
-	// One round of independent reads: settings, every method's summary state, names, the asked district.
-	const [settings, states, names, asked] = await Promise.all([
-		readSettings(db, [SETTING_KEYS.stateFyStartMonth, SETTING_KEYS.smallCellK, SETTING_KEYS.hubStateFips, SETTING_KEYS.activeMethod]),
-		db.selectFrom('rollup_refresh').selectAll().execute(),
-		lookups(db),
+	// One round trip for settings, summary states and names; the asked district alongside.
+	const [{ settings, states, names }, asked] = await Promise.all([
+		readContext(db),
 		q.district !== null ? resolveDistrict(db, q.district) : Promise.resolve(null)
 	]);
 	const active = settings.get(SETTING_KEYS.activeMethod);
