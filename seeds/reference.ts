@@ -12,6 +12,7 @@ const require = createRequire(import.meta.url);
 export const DEFAULT_SETTINGS: Record<string, unknown> = {
 	hub_state_fips: process.env.HUB_STATE_FIPS ?? '19',
 	state_fy_start_month: 7,
+	small_cell_k: 3,
 	active_method_version: DEFAULT_METHOD.version
 };
 

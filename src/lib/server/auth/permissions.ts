@@ -64,6 +64,9 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/records': { GET: roles('district', 'manager', 'admin') },
 	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
 	'/schema': { GET: publicAccess },
+	'/dashboard': { GET: roles('admin', 'manager', 'district') },
+	'/methods': { GET: signedIn, POST: roles('admin') },
+	'/methods/new': { GET: roles('admin'), POST: roles('admin') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -76,6 +79,8 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	// OAuth client credentials: the client authenticates inside the request (RFC 6749 §2.3.1).
 	'/api/v1/oauth/token': { POST: publicAccess },
 	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: adminOnly },
+	'/api/v1/rollups': { GET: scope('rollups:read') },
+	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: scope('admin') },
 	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
 	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: adminOnly },
 	'/api/v1/batches': { GET: scope('records:read'), POST: scope('records:write') },
