@@ -15,7 +15,13 @@ function fakeIo(env: NodeJS.ProcessEnv = {}) {
 	let err = '';
 	stdout.on('data', (b) => (out += b));
 	stderr.on('data', (b) => (err += b));
-	const io: Io = { stdout, stderr, stdin: Readable.from([]), env: { XDG_CONFIG_HOME: '/nonexistent-runnel-test', ...env }, cwd: process.cwd() };
+	const io: Io = {
+		stdout,
+		stderr,
+		stdin: Readable.from([]),
+		env: { XDG_CONFIG_HOME: '/nonexistent-runnel-test', ...env },
+		cwd: process.cwd()
+	};
 	return { io, out: () => out, err: () => err };
 }
 
@@ -107,7 +113,10 @@ describe('usage errors exit 3 without touching the network', () => {
 	it('global options are understood after the command too', async () => {
 		// --url after the command wins over RUNNEL_URL: the usage error about a missing URL goes away and
 		// the (closed) port of --url is the one tried.
-		const r = await cli(['whoami', '--retries', '0', '--url', 'http://127.0.0.1:9', '--json'], { RUNNEL_TOKEN: 'rnl_x', RUNNEL_URL: 'http://127.0.0.1:8' });
+		const r = await cli(['whoami', '--retries', '0', '--url', 'http://127.0.0.1:9', '--json'], {
+			RUNNEL_TOKEN: 'rnl_x',
+			RUNNEL_URL: 'http://127.0.0.1:8'
+		});
 		expect(r.code).toBe(1);
 		expect(r.stderr).toContain('127.0.0.1:9');
 		expect(r.stderr).not.toContain('127.0.0.1:8');

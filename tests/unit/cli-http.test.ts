@@ -92,7 +92,8 @@ describe('retries', () => {
 		let n = 0;
 		const url = await serve((req, res) => {
 			n++;
-			if (req.url === '/401') return problem(res, 401, { title: 'Authentication required', detail: 'The bearer token is unknown, revoked or expired.' });
+			if (req.url === '/401')
+				return problem(res, 401, { title: 'Authentication required', detail: 'The bearer token is unknown, revoked or expired.' });
 			if (req.url === '/403') return problem(res, 403, { title: 'Forbidden', detail: 'This needs the `records:write` scope.' });
 			problem(res, 422, { title: 'Unprocessable content', detail: 'Key reused.', errors: [{ pointer: '/a', detail: 'bad' }] });
 		});
@@ -114,7 +115,8 @@ describe('retries', () => {
 		let n = 0;
 		const url = await serve((_req, res) => {
 			n++;
-			if (n === 1 || n === 3) return problem(res, 409, { type: 'urn:runnel:problem:idempotency-key-in-flight', title: 'Conflict' }, { 'retry-after': '1' });
+			if (n === 1 || n === 3)
+				return problem(res, 409, { type: 'urn:runnel:problem:idempotency-key-in-flight', title: 'Conflict' }, { 'retry-after': '1' });
 			res.writeHead(202, { 'content-type': 'application/json' });
 			res.end('{"id":"1"}');
 		});
@@ -131,7 +133,9 @@ describe('retries', () => {
 		const e = await c.getJson('/api/v1/me').catch((x) => x);
 		expect(e).toBeInstanceOf(NetworkError);
 		expect(e.exitCode).toBe(EXIT.error);
-		expect(e.message).toMatch(/^cannot reach the hub at http:\/\/127\.0\.0\.1:\d+: connection refused \(ECONNREFUSED\); gave up after 3 attempts$/);
+		expect(e.message).toMatch(
+			/^cannot reach the hub at http:\/\/127\.0\.0\.1:\d+: connection refused \(ECONNREFUSED\); gave up after 3 attempts$/
+		);
 		expect(notices).toHaveLength(2);
 	});
 
@@ -183,7 +187,9 @@ describe('request bodies', () => {
 		expect(r.data.id).toBe('7');
 		expect(n).toBe(2);
 		expect(notices).toHaveLength(1);
-		expect(seen).toEqual([{ bytes: content.length, sha: createHash('sha256').update(content).digest('hex'), key: 'k-1', length: String(content.length) }]);
+		expect(seen).toEqual([
+			{ bytes: content.length, sha: createHash('sha256').update(content).digest('hex'), key: 'k-1', length: String(content.length) }
+		]);
 		expect(progress.at(-1)).toBe(content.length);
 	});
 
@@ -196,7 +202,9 @@ describe('request bodies', () => {
 			req.resume();
 		});
 		const { c } = client(url);
-		const e = await c.json({ method: 'POST', path: '/b', body: { open: () => createReadStream(file), length: 8 * 1024 * 1024 } }).catch((x) => x);
+		const e = await c
+			.json({ method: 'POST', path: '/b', body: { open: () => createReadStream(file), length: 8 * 1024 * 1024 } })
+			.catch((x) => x);
 		expect(e).toBeInstanceOf(HttpError);
 		expect(e.status).toBe(413);
 		expect(e.message).toContain('1 MB limit');
@@ -206,7 +214,9 @@ describe('request bodies', () => {
 describe('links', () => {
 	it('follows links on the same hub only, and keeps a path prefix', async () => {
 		const { c } = client('https://hub.example.org/runnel');
-		expect(c.url('/api/v1/records', { limit: 5, practice: undefined, fy: '' })).toBe('https://hub.example.org/runnel/api/v1/records?limit=5');
+		expect(c.url('/api/v1/records', { limit: 5, practice: undefined, fy: '' })).toBe(
+			'https://hub.example.org/runnel/api/v1/records?limit=5'
+		);
 		expect(c.url('/runnel/api/v1/records?cursor=abc')).toBe('https://hub.example.org/runnel/api/v1/records?cursor=abc');
 		expect(c.url('https://hub.example.org/api/v1/x')).toBe('https://hub.example.org/api/v1/x');
 		expect(() => c.url('https://elsewhere.example.net/steal')).toThrow(/another site/);

@@ -109,7 +109,12 @@ describe('the default Idempotency-Key', () => {
 		expect(new Set([k, ...others]).size).toBe(6);
 	});
 	it('is always a key the hub accepts (1–255 visible ASCII)', () => {
-		const k = deriveIdempotencyKey({ district: 'Dist with spaces/ü'.repeat(10), mode: 'valid', sha256: sha, sheet: 'Ünïcode sheet name '.repeat(20) });
+		const k = deriveIdempotencyKey({
+			district: 'Dist with spaces/ü'.repeat(10),
+			mode: 'valid',
+			sha256: sha,
+			sheet: 'Ünïcode sheet name '.repeat(20)
+		});
 		expect(isValidIdempotencyKey(k)).toBe(true);
 		expect(k.length).toBeLessThanOrEqual(255);
 		expect(isValidIdempotencyKey('has space')).toBe(false);
