@@ -7,7 +7,11 @@ export interface NavItem {
 	roles: readonly Role[];
 }
 
-export const NAV: NavItem[] = [{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] }];
+export const NAV: NavItem[] = [
+	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
+	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
+	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] }
+];
 
 export function navFor(role: Role | null): NavItem[] {
 	return role ? NAV.filter((i) => i.roles.includes(role)) : [];

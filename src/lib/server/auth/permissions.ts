@@ -19,10 +19,20 @@ const roles = (...r: Role[]): Access => ({ kind: 'roles', roles: r });
 export const PERMISSIONS: Record<string, RouteRules> = {
 	// --- pages ---
 	'/': { GET: publicAccess },
+	'/batches': { GET: roles('district', 'manager', 'admin') },
+	'/batches/[id]': { GET: roles('district', 'manager', 'admin') },
+	'/records': { GET: roles('district', 'manager', 'admin') },
+	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
-	'/api/v1/me': { GET: signedIn }
+	'/api/v1/me': { GET: signedIn },
+	'/api/v1/batches': { GET: scope('records:read'), POST: scope('records:write') },
+	'/api/v1/batches/[id]': { GET: scope('records:read') },
+	'/api/v1/batches/[id]/findings': { GET: scope('records:read') },
+	'/api/v1/records': { GET: scope('records:read') },
+	'/api/v1/records/[id]': { GET: scope('records:read') },
+	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
