@@ -1,38 +1,9 @@
 // A batch as the hub answers it (GET /api/v1/batches/{id}), and how the CLI sums it up.
+import type { Batch } from '../src/lib/schema/batch';
 import { EXIT } from './exit-codes';
 
-export interface BatchCounts {
-	rows: number;
-	accepted: number;
-	rejected: number;
-	errors: number;
-	warnings: number;
-	created: number;
-	updated: number;
-	unchanged: number;
-	withdrawn: number;
-}
-
-export interface BatchView {
-	id: string;
-	district: { code: string; name: string };
-	mode: 'check' | 'all' | 'valid';
-	status: 'received' | 'checking' | 'done' | 'failed';
-	valid: boolean | null;
-	committed: boolean;
-	file_name: string | null;
-	format: string;
-	size_bytes: number;
-	sha256: string;
-	schema_version: string;
-	progress: { rows_done: number };
-	counts: BatchCounts;
-	findings_omitted: number;
-	failure: string | null;
-	created_at: string;
-	finished_at: string | null;
-	links: { self: string; findings: string; findings_csv: string };
-}
+/** The batch resource, as the shared schema defines it (src/lib/schema/batch.ts). */
+export type BatchView = Batch;
 
 export const isFinished = (b: Pick<BatchView, 'status'>) => b.status === 'done' || b.status === 'failed';
 
@@ -59,7 +30,8 @@ export function summarizeBatch(b: BatchView, label: string): string {
 	];
 	if (b.mode !== 'check' || c.created + c.updated + c.unchanged + c.withdrawn > 0) {
 		const would = b.mode === 'check' ? 'would be ' : '';
-		parts.push(`${would}${c.created} created, ${c.updated} updated, ${c.unchanged} unchanged, ${c.withdrawn} withdrawn`);
+		const n = (x: number) => x.toLocaleString('en-US');
+		parts.push(`${would}${n(c.created)} created, ${n(c.updated)} updated, ${n(c.unchanged)} unchanged, ${n(c.withdrawn)} withdrawn`);
 	}
 	if (b.mode === 'all' && c.errors > 0) parts.push('nothing saved (mode all)');
 	return `${head}: ${parts.join('; ')}`;

@@ -3,6 +3,7 @@
 import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
 import { APP_VERSION } from '../src/lib/version';
 import { registerBatches } from './commands/batches';
+import { registerCheck } from './commands/check';
 import { registerExport } from './commands/export';
 import { registerLogin } from './commands/login';
 import { registerRecords } from './commands/records';
@@ -96,6 +97,7 @@ export function buildProgram(io: Io, state: { code: number; ctx: Context | null 
 	for (const register of [
 		registerLogin,
 		registerWhoami,
+		registerCheck,
 		registerUpload,
 		registerBatches,
 		registerRecords,

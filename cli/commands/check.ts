@@ -116,7 +116,7 @@ async function check(ctx: Context, files: string[], opts: CheckOptions): Promise
 					if (json) await ctx.ui.out(`${firstFinding ? '' : '\n'}],"stats":${JSON.stringify(s)}}`);
 					else
 						ctx.ui.info(
-							`${label}: ${s.rows} rows, ${s.accepted} accepted, ${s.rejected} rejected; ${s.findings.errors ?? errors} errors, ${s.findings.warnings ?? 0} warnings (schema ${s.schema_version})`
+							`${label}: ${s.rows} rows, ${s.accepted} accepted, ${s.rejected} rejected; ${s.findings.errors} errors, ${s.findings.warnings} warnings (schema ${s.schema_version})`
 						);
 				}
 			}

@@ -4,30 +4,11 @@ import type { Context } from '../context';
 import { EXIT, UsageError } from '../exit-codes';
 import { table } from '../output';
 import type { Registry } from '../program';
+import type { RecordDetail, RecordSummary } from '../../src/lib/schema/record-api';
 import { wholeNumber } from '../program';
 
-export interface RecordRow {
-	id: string;
-	district: { code: string; name: string };
-	local_id: string;
-	version: number;
-	status: string;
-	practice_code: string;
-	county_fips: string;
-	installed_on: string;
-	withdrawn_on: string | null;
-	fiscal_year: number;
-	extent_acres: number | null;
-	drainage_area_acres: number | null;
-	field_id: string | null;
-	operation_id: string | null;
-	huc12: string | null;
-	cost_total_usd: number | null;
-	cost_share_usd: number | null;
-	funding_program: string | null;
-	warnings: number;
-	updated_at: string;
-}
+/** A record as the list answers it (src/lib/schema/record-api.ts). */
+export type RecordRow = RecordSummary;
 
 export interface RecordFilters {
 	district?: string;
@@ -90,17 +71,6 @@ async function listRecords(ctx: Context, opts: RecordFilters & { limit: number }
 	);
 	if (rows.length === opts.limit) ctx.ui.info(`(first ${opts.limit}; raise --limit or use \`runnel export records\` for all)`);
 	return EXIT.ok;
-}
-
-interface RecordDetail extends RecordRow {
-	data: Record<string, unknown>;
-	versions: Array<{
-		version: number;
-		created_at: string;
-		actor: string;
-		batch: { id: string; file_name: string | null } | null;
-		changed_fields: string[];
-	}>;
 }
 
 async function showRecord(ctx: Context, id: string): Promise<number> {

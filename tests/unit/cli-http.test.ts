@@ -50,6 +50,15 @@ function client(baseUrl: string, extra: Partial<ConstructorParameters<typeof Api
 	return { c, waits, notices };
 }
 
+/** The error a request fails with (the test fails if it succeeds). */
+const failure = (p: Promise<unknown>) =>
+	p.then(
+		() => {
+			throw new Error('expected the request to fail');
+		},
+		(e: unknown) => e as HttpError & NetworkError
+	);
+
 const problem = (res: http.ServerResponse, status: number, body: Record<string, unknown>, headers: Record<string, string> = {}) => {
 	res.writeHead(status, { 'content-type': 'application/problem+json', ...headers });
 	res.end(JSON.stringify({ status, ...body }));
@@ -81,7 +90,7 @@ describe('retries', () => {
 			problem(res, 502, { title: 'Bad gateway' });
 		});
 		const { c } = client(url);
-		const e = await c.getJson('/x').catch((x) => x);
+		const e = await failure(c.getJson('/x'));
 		expect(e).toBeInstanceOf(HttpError);
 		expect(n).toBe(4);
 		expect(e.message).toMatch(/HTTP 502 .*gave up after 4 attempts/);
@@ -98,14 +107,14 @@ describe('retries', () => {
 			problem(res, 422, { title: 'Unprocessable content', detail: 'Key reused.', errors: [{ pointer: '/a', detail: 'bad' }] });
 		});
 		const { c } = client(url);
-		const e401 = await c.getJson('/401').catch((x) => x);
+		const e401 = await failure(c.getJson('/401'));
 		expect([e401.exitCode, e401.status]).toEqual([EXIT.auth, 401]);
 		expect(e401.message).toBe('the hub refused the token from RUNNEL_TOKEN (HTTP 401): The bearer token is unknown, revoked or expired.');
 		expect(e401.message).not.toContain('\n');
-		const e403 = await c.getJson('/403').catch((x) => x);
+		const e403 = await failure(c.getJson('/403'));
 		expect(e403.exitCode).toBe(EXIT.auth);
 		expect(e403.message).toContain('records:write');
-		const e422 = await c.getJson('/422').catch((x) => x);
+		const e422 = await failure(c.getJson('/422'));
 		expect(e422.exitCode).toBe(EXIT.error);
 		expect(e422.details).toEqual(['/a: bad']);
 		expect(n).toBe(3);
@@ -122,7 +131,7 @@ describe('retries', () => {
 		});
 		const { c } = client(url);
 		expect((await c.json({ method: 'POST', path: '/b', retryInFlight: true })).data).toEqual({ id: '1' });
-		const e = await c.json({ method: 'POST', path: '/b' }).catch((x) => x);
+		const e = await failure(c.json({ method: 'POST', path: '/b' }));
 		expect(e.status).toBe(409);
 		expect(n).toBe(3);
 	});
@@ -130,7 +139,7 @@ describe('retries', () => {
 	it('a closed port: bounded retries, then a clear network error (exit 1)', async () => {
 		const url = await closedPort();
 		const { c, notices } = client(url, { backoff: { retries: 2, baseMs: 1, maxMs: 5 }, sleep: undefined });
-		const e = await c.getJson('/api/v1/me').catch((x) => x);
+		const e = await failure(c.getJson('/api/v1/me'));
 		expect(e).toBeInstanceOf(NetworkError);
 		expect(e.exitCode).toBe(EXIT.error);
 		expect(e.message).toMatch(
@@ -145,7 +154,7 @@ describe('retries', () => {
 		});
 		const { c } = client(url, { timeoutMs: 200, backoff: { retries: 0, baseMs: 1, maxMs: 1 } });
 		const started = Date.now();
-		const e = await c.getJson('/slow').catch((x) => x);
+		const e = await failure(c.getJson('/slow'));
 		expect(e).toBeInstanceOf(NetworkError);
 		expect(e.message).toMatch(/no answer within 0\.2 s/);
 		expect(Date.now() - started).toBeLessThan(5000);
@@ -202,9 +211,7 @@ describe('request bodies', () => {
 			req.resume();
 		});
 		const { c } = client(url);
-		const e = await c
-			.json({ method: 'POST', path: '/b', body: { open: () => createReadStream(file), length: 8 * 1024 * 1024 } })
-			.catch((x) => x);
+		const e = await failure(c.json({ method: 'POST', path: '/b', body: { open: () => createReadStream(file), length: 8 * 1024 * 1024 } }));
 		expect(e).toBeInstanceOf(HttpError);
 		expect(e.status).toBe(413);
 		expect(e.message).toContain('1 MB limit');
