@@ -7,9 +7,9 @@ import type { Registry } from '../program';
 
 export const SCHEMA_DOCUMENTS = {
 	'json-schema': { path: '/api/v1/schema/practice-record.json', accept: 'application/schema+json, application/json', binary: false },
-	'csv-template': { path: '/api/v1/schema/practice-record-template.csv', accept: 'text/csv', binary: false },
+	'csv-template': { path: '/api/v1/schema/practice-record.csv', accept: 'text/csv', binary: false },
 	'xlsx-template': {
-		path: '/api/v1/schema/practice-record-template.xlsx',
+		path: '/api/v1/schema/practice-record.xlsx',
 		accept: 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet',
 		binary: true
 	}

@@ -34,6 +34,7 @@ async function cli(args: string[], env?: NodeJS.ProcessEnv) {
 const COMMANDS = [
 	['login'],
 	['whoami'],
+	['check'],
 	['upload'],
 	['batches'],
 	['records'],
