@@ -53,9 +53,10 @@ describe('runnel login / whoami', () => {
 		expect(() => statSync(path.join(home, 'runnel', 'config.json'))).toThrow();
 	});
 
-	it('login with --no-input and no token on stdin is a usage error or an auth error, never a hang', async () => {
+	it('login with nothing on stdin never hangs: exit 4, "No token in stdin"', async () => {
 		const r = await runCli(['login', '--url', app.origin, '--no-input']);
-		expect([3, 4]).toContain(r.code);
+		expect(r.code).toBe(4);
+		expect(r.stderr).toMatch(/No token in stdin/);
 	});
 
 	it('whoami --json names the role and where the token came from', async () => {
@@ -102,9 +103,8 @@ describe('failures a nightly script must tell apart', () => {
 	it('a token without the scope → exit 4 (403)', async () => {
 		// The researcher has no records:read; listing records needs it.
 		const r = await runCli(['records'], { env: { RUNNEL_URL: app.origin, RUNNEL_TOKEN: DEMO_TOKENS.researcher } });
-		// Until the records API is merged the route is unknown (404 → exit 1); once it exists this is 403 → 4.
-		expect([1, 4]).toContain(r.code);
-		if (r.code === 4) expect(r.stderr).toMatch(/HTTP 403/);
+		expect(r.code).toBe(4);
+		expect(r.stderr.trim()).toMatch(/^error: permission refused \(HTTP 403\): .*records:read/);
 	});
 
 	it('the hub is down → exit 1 with a clear message after bounded retries', async () => {
