@@ -10,7 +10,8 @@ export interface NavItem {
 export const NAV: NavItem[] = [
 	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
 	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
-	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] }
+	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
+	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

@@ -23,6 +23,7 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/batches/[id]': { GET: roles('district', 'manager', 'admin') },
 	'/records': { GET: roles('district', 'manager', 'admin') },
 	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
+	'/schema': { GET: publicAccess },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -32,7 +33,13 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/batches/[id]/findings': { GET: scope('records:read') },
 	'/api/v1/records': { GET: scope('records:read') },
 	'/api/v1/records/[id]': { GET: scope('records:read') },
-	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') }
+	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') },
+	'/api/v1/openapi.json': { GET: publicAccess },
+	'/api/v1/schema/practice-record.json': { GET: publicAccess },
+	'/api/v1/schema/practice-record.csv': { GET: publicAccess },
+	'/api/v1/schema/practice-record.xlsx': { GET: publicAccess },
+	'/api/docs': { GET: publicAccess },
+	'/api/docs/[asset]': { GET: publicAccess }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.

@@ -28,7 +28,7 @@ export class JsonArraySplitter {
 
 	push(text: string): SplitEvent[] {
 		const out: SplitEvent[] = [];
-		let segStart = -1; // start of the current element's text inside `text`
+		let segStart = this.state === 'in-element' ? 0 : -1; // start of the current element's text inside `text`
 		const flush = (end: number) => {
 			if (segStart < 0) return;
 			const len = end - segStart;

@@ -86,7 +86,25 @@ export async function* readXlsx(input: Input, opts: ReadOptions, limits: ReadLim
 			hyperlinks: 'ignore',
 			styles: 'cache', // needed to tell date cells from numbers
 			entries: 'ignore'
-		}) as unknown as StreamingWorkbookReader;
+		}) as unknown as StreamingWorkbookReader & { sharedStrings?: unknown[] };
+		// exceljs 4.4 sets sheets aside until xl/sharedStrings.xml has been read, and loses all but the first
+		// of them when the workbook has no shared strings at all (inline strings only). Such a workbook has
+		// nothing to wait for: when its workbook.xml and relationships come before the sheets (so sheet names
+		// are known), let exceljs read the sheets as they stream past.
+		const offsetOf = (name: string) => verdict.entries.find((e) => e.name === name)?.localHeaderOffset;
+		const firstSheet = Math.min(
+			...verdict.entries.filter((e) => /^xl\/worksheets\/sheet\d+\.xml$/.test(e.name)).map((e) => e.localHeaderOffset)
+		);
+		const book = offsetOf('xl/workbook.xml');
+		const rels = offsetOf('xl/_rels/workbook.xml.rels');
+		if (
+			offsetOf('xl/sharedStrings.xml') === undefined &&
+			book !== undefined &&
+			rels !== undefined &&
+			book < firstSheet &&
+			rels < firstSheet
+		)
+			reader.sharedStrings = [];
 		const seen: string[] = [];
 		let found = false;
 		try {

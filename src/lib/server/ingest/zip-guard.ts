@@ -19,7 +19,7 @@ export interface ZipEntryInfo {
 	localHeaderOffset: number;
 }
 
-export type ZipProblem = 'xlsx-not-zip' | 'xlsx-encrypted' | 'xlsx-too-large' | 'xlsx-invalid';
+export type ZipProblem = 'empty-file' | 'xlsx-not-zip' | 'xlsx-encrypted' | 'xlsx-too-large' | 'xlsx-invalid';
 export type ZipVerdict =
 	{ ok: true; entries: ZipEntryInfo[]; uncompressedBytes: number } | { ok: false; code: ZipProblem; message: string };
 
@@ -52,7 +52,7 @@ export async function inspectZip(path: string, limits: ReadLimits): Promise<ZipV
 	try {
 		const size = (await fh.stat()).size;
 		const start = await readAt(fh, 0, 8);
-		if (start.length === 0) return fail('xlsx-invalid', 'The file is empty.');
+		if (start.length === 0) return fail('empty-file', 'The file is empty.');
 		if (start.length === 8 && OLE.every((b, i) => start[i] === b))
 			return fail(
 				'xlsx-encrypted',

@@ -1,0 +1,6 @@
+// Every module that registers OpenAPI paths, imported for its side effect. Add one line per area.
+import './common';
+import './core';
+import './schema-routes';
+
+export { registry } from './registry';

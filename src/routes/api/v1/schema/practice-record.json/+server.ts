@@ -1,0 +1,7 @@
+import { practiceRecordJsonSchema } from '$lib/schema/json-schema';
+import type { RequestHandler } from './$types';
+
+export const GET: RequestHandler = () =>
+	new Response(JSON.stringify(practiceRecordJsonSchema(), null, 2), {
+		headers: { 'content-type': 'application/schema+json; charset=utf-8', 'cache-control': 'public, max-age=300' }
+	});
