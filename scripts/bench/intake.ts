@@ -9,7 +9,6 @@ import os from 'node:os';
 import path from 'node:path';
 import { pipeline } from 'node:stream/promises';
 import { stringify } from 'csv-stringify/sync';
-import pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 import { startFakeS3Process } from '../lib/fake-s3';
 

@@ -4,15 +4,14 @@
 // Idempotent: a file already loaded (same district and SHA-256, committed) is skipped on re-seed.
 import { createHash } from 'node:crypto';
 import { Readable } from 'node:stream';
-import { stringify } from 'csv-stringify/sync';
 import type { Principal } from '../../src/lib/server/auth/principal';
 import { createBatch } from '../../src/lib/server/batches/create';
 import { processBatch } from '../../src/lib/server/batches/process';
 import { stopBoss } from '../../src/lib/server/batches/queue';
 import { getDb } from '../../src/lib/server/db';
 import { closeObjectStore } from '../../src/lib/server/storage/object-store';
-import { PRACTICE_RECORD_COLUMNS } from '../../src/lib/schema/practice-record';
-import { generateDemoRecords, type DemoRow } from './records';
+import { toCsv } from './csv';
+import { generateDemoRecords } from './records';
 
 /** The seed acts as a system client with the administrator's right to name the district. */
 const SEED_PRINCIPAL: Principal = {
@@ -26,13 +25,6 @@ const SEED_PRINCIPAL: Principal = {
 	credentialId: 'demo-seed',
 	expiresAt: null
 };
-
-export function toCsv(rows: DemoRow[]): string {
-	return stringify(
-		rows.map((r) => PRACTICE_RECORD_COLUMNS.map((c) => r[c] ?? '')),
-		{ header: true, columns: [...PRACTICE_RECORD_COLUMNS] }
-	);
-}
 
 async function sendFile(district: string, fileName: string, csv: string, log: (m: string) => void): Promise<void> {
 	const bytes = Buffer.from(csv, 'utf8');

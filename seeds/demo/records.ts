@@ -271,9 +271,10 @@ export function generateDemoRecords(seed = 20161): DemoDistrictRecords[] {
 		// Every practice in every county at least once (the demo shows the whole catalog everywhere).
 		d.counties.forEach((county, ci) => {
 			PRACTICE_CATALOG.forEach((p, pi) => {
-				const op = operations[(ci * 7 + pi) % operations.length];
-				const field = op.fields.find((f) => f.county === county) ?? { ...op.fields[0], county };
-				add(p.code, DEMO_FISCAL_YEARS.first + ((pi + ci) % 12), op, field);
+				// An operation with a field in this county (every county has some: fields rotate through them).
+				const start = (ci * 7 + pi) % operations.length;
+				const op = [...operations.slice(start), ...operations.slice(0, start)].find((o) => o.fields.some((f) => f.county === county))!;
+				add(p.code, DEMO_FISCAL_YEARS.first + ((pi + ci) % 12), op, op.fields.find((f) => f.county === county)!);
 			});
 		});
 		// Stacked practices: a bioreactor, cover crop and nutrient management on the same field.

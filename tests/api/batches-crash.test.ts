@@ -35,7 +35,11 @@ async function admin<T>(fn: (c: pg.Client) => Promise<T>): Promise<T> {
 
 function runScript(script: string, env: NodeJS.ProcessEnv): Promise<void> {
 	return new Promise((resolve, reject) => {
-		const p = spawn(process.execPath, ['--import', 'tsx', path.join(ROOT, script)], { cwd: ROOT, env, stdio: ['ignore', 'ignore', 'pipe'] });
+		const p = spawn(process.execPath, ['--import', 'tsx', path.join(ROOT, script)], {
+			cwd: ROOT,
+			env,
+			stdio: ['ignore', 'ignore', 'pipe']
+		});
 		let err = '';
 		p.stderr!.on('data', (d) => (err += d));
 		p.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(`${script} failed: ${err}`))));
@@ -77,7 +81,9 @@ function bigCsv(prefix: string): Buffer {
 	const lines = ['local_id,practice_code,county_fips,installed_on,extent_acres,drainage_area_acres,cost_total_usd,cost_share_usd'];
 	for (let i = 0; i < ROWS; i++) {
 		const edge = i % 5 === 0;
-		lines.push(`${prefix}-${i},${edge ? '605' : '340'},${BLH_COUNTY},2024-0${1 + (i % 9)}-1${i % 9},${edge ? '' : 20 + (i % 100)},${edge ? 30 + (i % 50) : ''},${1000 + i},${500 + i}`);
+		lines.push(
+			`${prefix}-${i},${edge ? '605' : '340'},${BLH_COUNTY},2024-0${1 + (i % 9)}-1${i % 9},${edge ? '' : 20 + (i % 100)},${edge ? 30 + (i % 50) : ''},${1000 + i},${500 + i}`
+		);
 	}
 	return Buffer.from(lines.join('\n') + '\n');
 }

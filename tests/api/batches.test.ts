@@ -52,7 +52,10 @@ describe('the demo mistakes file in check mode', () => {
 		const findings = await allFindings(T.district, b.id);
 		for (const m of manifest.mistakes) {
 			const hit = findings.find((f) => f.row === m.row && f.column === m.column && f.code === m.code);
-			expect(hit, `${m.what}: expected ${m.code} at row ${m.row}, column ${m.column}; got ${JSON.stringify(findings.filter((f) => f.row === m.row))}`).toBeDefined();
+			expect(
+				hit,
+				`${m.what}: expected ${m.code} at row ${m.row}, column ${m.column}; got ${JSON.stringify(findings.filter((f) => f.row === m.row))}`
+			).toBeDefined();
 			expect(hit!.severity).toBe(m.severity);
 			expect(hit!.message.length).toBeGreaterThan(10);
 		}
@@ -92,7 +95,13 @@ describe('sending the clean demo files', () => {
 
 	it('a JSON array and NDJSON go through the same checks', async () => {
 		const p = uniquePrefix('JS');
-		const rec = (i: number) => ({ local_id: `${p}-${i}`, practice_code: '340', county_fips: BLH_COUNTY, installed_on: '2024-10-01', extent_acres: 40 + i });
+		const rec = (i: number) => ({
+			local_id: `${p}-${i}`,
+			practice_code: '340',
+			county_fips: BLH_COUNTY,
+			installed_on: '2024-10-01',
+			extent_acres: 40 + i
+		});
 		const a = await runBatch(T.district, JSON.stringify([rec(1), rec(2)]), { mode: 'valid', contentType: 'application/json' });
 		expect(a.counts).toMatchObject({ rows: 2, accepted: 2, created: 2 });
 		const n = await runBatch(T.district, [rec(2), rec(3)].map((r) => JSON.stringify(r)).join('\n') + '\n', {
@@ -309,7 +318,9 @@ describe('modes and checks', () => {
 		const before = await count(`select count(*) as n from mail_messages where kind = 'batch-result'`);
 		const v = await runBatch(T.district, mixed(p), { mode: 'valid', fileName: 'mixed.csv' });
 		const mails = (
-			await (await db()).query(`select to_addresses, subject, text_body from mail_messages where kind = 'batch-result' order by id desc limit 1`)
+			await (
+				await db()
+			).query(`select to_addresses, subject, text_body from mail_messages where kind = 'batch-result' order by id desc limit 1`)
 		).rows;
 		expect(await count(`select count(*) as n from mail_messages where kind = 'batch-result'`)).toBe(before + 1);
 		expect(mails[0].to_addresses).toEqual(['mara.quillfeather@bluestem.example.org']);
@@ -382,9 +393,11 @@ describe('findings as CSV', () => {
 });
 
 describe('a district sees only its own batches and records', () => {
-	it("district2 cannot read a BLH batch, its findings or its records; lists stay within the district", async () => {
+	it('district2 cannot read a BLH batch, its findings or its records; lists stay within the district', async () => {
 		const p = uniquePrefix('OWN');
-		const b = await runBatch(T.district, csv(BASIC_HEADER, [[`${p}-1`, '340', BLH_COUNTY, '2024-10-01', '', '', '50', '']]), { mode: 'all' });
+		const b = await runBatch(T.district, csv(BASIC_HEADER, [[`${p}-1`, '340', BLH_COUNTY, '2024-10-01', '', '', '50', '']]), {
+			mode: 'all'
+		});
 		const h = await appHandler();
 		expect((await request(h).get(`/api/v1/batches/${b.id}`).set(bearer(T.district2))).status).toBe(404);
 		expect((await request(h).get(`/api/v1/batches/${b.id}/findings`).set(bearer(T.district2))).status).toBe(404);
@@ -422,12 +435,15 @@ describe('GET /api/v1/records', () => {
 			const all: Array<{ local_id: string; fiscal_year: number }> = [];
 			let url: string | null = `/api/v1/records?limit=2&${q}`;
 			while (url) {
-				const res = await request(h).get(url).set(bearer(T.district));
+				const res: request.Response = await request(h).get(url).set(bearer(T.district));
 				expect(res.status).toBe(200);
 				all.push(...res.body.data);
 				url = res.body.next;
 			}
-			return all.filter((r) => r.local_id.startsWith(p)).map((r) => r.local_id.slice(p.length + 1)).sort();
+			return all
+				.filter((r) => r.local_id.startsWith(p))
+				.map((r) => r.local_id.slice(p.length + 1))
+				.sort();
 		};
 		// FY2024 = 2023-07-01 … 2024-06-30; FY2025 = 2024-07-01 … 2025-06-30.
 		expect(await get(`fiscal_year=2024&practice=340`)).toEqual(['1']);
@@ -446,8 +462,12 @@ describe('PUT /api/v1/records/{district}/{local_id}', () => {
 		const h = await appHandler();
 		const id = uniquePrefix('PUT');
 		const rec = { practice_code: '605', county_fips: BLH_COUNTY, installed_on: '2023-09-12', drainage_area_acres: 60, bed_length_ft: 100 };
-		const put = (body: unknown, token = T.district, district = 'BLH') =>
-			request(h).put(`/api/v1/records/${district}/${id}`).set(bearer(token)).set('content-type', 'application/json').send(JSON.stringify(body));
+		const put = (body: unknown, token: string = T.district, district = 'BLH') =>
+			request(h)
+				.put(`/api/v1/records/${district}/${id}`)
+				.set(bearer(token))
+				.set('content-type', 'application/json')
+				.send(JSON.stringify(body));
 		const a = await put(rec);
 		expect(a.status, JSON.stringify(a.body)).toBe(201);
 		expect(a.body.outcome).toBe('created');

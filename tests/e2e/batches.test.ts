@@ -60,7 +60,9 @@ describe('batches page', () => {
 
 		// Filter to warnings only, then back; sort by code.
 		await page.getByLabel('Severity').selectOption('warning');
-		await page.waitForFunction(() => [...document.querySelectorAll('tbody tr td:nth-child(3)')].every((td) => td.textContent?.includes('warning')));
+		await page.waitForFunction(() =>
+			[...document.querySelectorAll('tbody tr td:nth-child(3)')].every((td) => td.textContent?.includes('warning'))
+		);
 		await page.getByLabel('Severity').selectOption('');
 		await page.waitForFunction((n) => document.querySelectorAll('tbody tr').length === n, rowCount);
 		await page.getByRole('button', { name: /^Code/ }).click();
@@ -82,13 +84,20 @@ describe('batches page', () => {
 		expect(await table.locator('tbody tr').count()).toBeGreaterThan(10);
 		await page.getByLabel('Status').selectOption('withdrawn');
 		await page.getByRole('button', { name: 'Show records' }).click();
-		await page.waitForFunction(() => [...document.querySelectorAll('tbody tr td:nth-child(6)')].every((td) => td.textContent === 'withdrawn'));
+		await page.waitForFunction(() =>
+			[...document.querySelectorAll('tbody tr td:nth-child(6)')].every((td) => td.textContent === 'withdrawn')
+		);
 		expect(await seriousA11yViolations(page)).toEqual([]);
 		await screenshot(page, 'records-withdrawn');
 		await table.locator('tbody tr a').first().click();
 		await page.waitForURL(/\/records\/\d+$/);
 		await page.getByRole('heading', { name: 'Versions' }).waitFor();
-		await expect(page.getByText(/from batch #\d+/).first().isVisible()).resolves.toBe(true);
+		await expect(
+			page
+				.getByText(/from batch #\d+/)
+				.first()
+				.isVisible()
+		).resolves.toBe(true);
 		expect(await seriousA11yViolations(page)).toEqual([]);
 		await screenshot(page, 'record-versions');
 		await page.close();

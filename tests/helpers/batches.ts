@@ -38,7 +38,8 @@ export async function sendBatch(token: string, body: Buffer | string, opts: Send
 	const key = opts.key === undefined ? (mode === 'check' ? null : randomUUID()) : opts.key;
 	if (key) req = req.set('idempotency-key', key);
 	if (opts.fileName) req = req.set('content-disposition', `attachment; filename="${opts.fileName}"`);
-	return req.send(typeof body === 'string' ? Buffer.from(body, 'utf8') : body);
+	// Strings go as they are (superagent would serialise a Buffer sent as application/json).
+	return req.send(body);
 }
 
 export interface BatchBody {
@@ -92,7 +93,7 @@ export async function allFindings(token: string, id: string): Promise<FindingBod
 	const out: FindingBody[] = [];
 	let url: string | null = `/api/v1/batches/${id}/findings?limit=200`;
 	while (url) {
-		const res = await request(h).get(url).set(bearer(token));
+		const res: request.Response = await request(h).get(url).set(bearer(token));
 		expect(res.status).toBe(200);
 		out.push(...res.body.data);
 		url = res.body.next;
@@ -136,4 +137,13 @@ export function uniquePrefix(tag: string): string {
 /** Bluestem Hills (BLH, the `district` demo token) serves these; Kettle Prairie (KTP) serves others. */
 export const BLH_COUNTY = '19109';
 export const KTP_COUNTY = '19033';
-export const BASIC_HEADER = ['local_id', 'practice_code', 'county_fips', 'installed_on', 'status', 'withdrawn_on', 'extent_acres', 'drainage_area_acres'];
+export const BASIC_HEADER = [
+	'local_id',
+	'practice_code',
+	'county_fips',
+	'installed_on',
+	'status',
+	'withdrawn_on',
+	'extent_acres',
+	'drainage_area_acres'
+];

@@ -38,10 +38,24 @@ describe('cursors', () => {
 	it('turn limit+1 rows into a page with a next link only when there is more', () => {
 		const url = new URL('http://h/x');
 		const rows = [{ id: '5' }, { id: '4' }, { id: '3' }];
-		const more = toPage(url, rows, 2, (r) => ({ id: r.id }), (r) => r.id);
+		const more = toPage(
+			url,
+			rows,
+			2,
+			(r) => ({ id: r.id }),
+			(r) => r.id
+		);
 		expect(more.data).toEqual(['5', '4']);
 		expect(decodeCursor(new URL(more.next!, 'http://h').searchParams.get('cursor'), Shape)).toEqual({ id: '4' });
-		expect(toPage(url, rows.slice(0, 2), 2, (r) => ({ id: r.id }), (r) => r.id).next).toBeNull();
+		expect(
+			toPage(
+				url,
+				rows.slice(0, 2),
+				2,
+				(r) => ({ id: r.id }),
+				(r) => r.id
+			).next
+		).toBeNull();
 	});
 
 	it('limit must be a whole number in range', () => {

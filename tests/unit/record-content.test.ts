@@ -25,10 +25,13 @@ describe('canonical record content', () => {
 
 	it('is the same for any permutation of the same members (property)', () => {
 		fc.assert(
-			fc.property(fc.dictionary(fc.string({ minLength: 1, maxLength: 8 }), fc.oneof(fc.string(), fc.integer(), fc.constant(null))), (obj) => {
-				const reversed = Object.fromEntries(Object.entries(obj).reverse());
-				expect(canonicalJson(reversed)).toBe(canonicalJson(obj));
-			})
+			fc.property(
+				fc.dictionary(fc.string({ minLength: 1, maxLength: 8 }), fc.oneof(fc.string(), fc.integer(), fc.constant(null))),
+				(obj) => {
+					const reversed = Object.fromEntries(Object.entries(obj).reverse());
+					expect(canonicalJson(reversed)).toBe(canonicalJson(obj));
+				}
+			)
 		);
 	});
 });
@@ -41,7 +44,9 @@ describe('changed fields and diffs', () => {
 	});
 
 	it('gives before and after per field', () => {
-		expect(diffVersions({ status: 'installed', extent_acres: 10 }, { status: 'withdrawn', extent_acres: 10, withdrawn_on: '2025-01-02' })).toEqual([
+		expect(
+			diffVersions({ status: 'installed', extent_acres: 10 }, { status: 'withdrawn', extent_acres: 10, withdrawn_on: '2025-01-02' })
+		).toEqual([
 			{ field: 'status', before: 'installed', after: 'withdrawn' },
 			{ field: 'withdrawn_on', before: null, after: '2025-01-02' }
 		]);

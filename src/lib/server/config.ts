@@ -18,7 +18,14 @@ export const config = {
 		return Number(process.env.MAX_UPLOAD_MB ?? 50) * 1024 * 1024;
 	},
 	/** Object storage (S3 API). Unset S3_URL: a local fake S3 server on 127.0.0.1 (development and tests). */
-	get s3(): { url: string | null; bucket: string; region: string; accessKeyId: string | null; secretAccessKey: string | null; forcePathStyle: boolean } {
+	get s3(): {
+		url: string | null;
+		bucket: string;
+		region: string;
+		accessKeyId: string | null;
+		secretAccessKey: string | null;
+		forcePathStyle: boolean;
+	} {
 		return {
 			url: process.env.S3_URL || null,
 			bucket: process.env.S3_BUCKET || 'runnel',

@@ -68,7 +68,9 @@ export function checkIdempotencyKey(mode: BatchMode, key: string | null): void {
 }
 
 function fingerprintOf(districtId: number, mode: BatchMode, sheet: string | null, sha256: string): string {
-	return createHash('sha256').update(JSON.stringify([districtId, mode, sheet ?? '', sha256])).digest('hex');
+	return createHash('sha256')
+		.update(JSON.stringify([districtId, mode, sheet ?? '', sha256]))
+		.digest('hex');
 }
 
 const EXTENSIONS: Record<UploadFormat, string> = { csv: 'csv', xlsx: 'xlsx', ndjson: 'ndjson', json: 'json' };
@@ -131,7 +133,9 @@ export async function createBatch(principal: Principal, input: NewBatchInput): P
 			answer = await db.transaction().execute(async (trx) => {
 				if (input.idempotencyKey) {
 					// Another request holding this key right now: it is in flight → 409.
-					const lock = await sql<{ ok: boolean }>`select pg_try_advisory_xact_lock(hashtextextended(${'runnel:idem:' + scope + ':' + input.idempotencyKey}, 0)) as ok`.execute(
+					const lock = await sql<{
+						ok: boolean;
+					}>`select pg_try_advisory_xact_lock(hashtextextended(${'runnel:idem:' + scope + ':' + input.idempotencyKey}, 0)) as ok`.execute(
 						trx
 					);
 					if (!lock.rows[0].ok) throw conflictProblem();
@@ -142,7 +146,8 @@ export async function createBatch(principal: Principal, input: NewBatchInput): P
 						.where('key', '=', input.idempotencyKey)
 						.executeTakeFirst();
 					if (existing && existing.expires_at.getTime() > Date.now()) return replay(existing, fingerprint);
-					if (existing) await trx.deleteFrom('idempotency_keys').where('scope', '=', scope).where('key', '=', input.idempotencyKey).execute();
+					if (existing)
+						await trx.deleteFrom('idempotency_keys').where('scope', '=', scope).where('key', '=', input.idempotencyKey).execute();
 				}
 				await trx
 					.insertInto('batches')

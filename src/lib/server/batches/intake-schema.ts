@@ -2,11 +2,13 @@
 // src/lib/server/ingest), so the batch code depends on a small, named surface.
 import type { UploadFormat } from '../db/schema';
 import { ApiError } from '../http/problem';
-import { detectFormat, readRows } from '../ingest/read-rows';
+import { detectFormat } from '../ingest/read-rows';
 
-export { createRecordChecker, type CheckContext as CheckerContext } from '$lib/schema/check-records';
+export { createRecordChecker, type CheckContext } from '$lib/schema/check-records';
 export { SCHEMA_VERSION, type PracticeRecordV1 } from '$lib/schema/practice-record';
-export { readRows };
+export { checkFile } from '../ingest/check-file';
+export { loadCheckContext } from '../ingest/context';
+export { declaredCharset } from '../ingest/read-rows';
 
 /** The upload format from Content-Type (and file name); an unsupported type is a 415 problem. */
 export function uploadFormatOf(contentType: string | null, fileName: string | null): UploadFormat {
@@ -17,7 +19,9 @@ export function uploadFormatOf(contentType: string | null, fileName: string | nu
 			type: 'unsupported-media-type',
 			detail:
 				'Send the file as text/csv, application/vnd.openxmlformats-officedocument.spreadsheetml.sheet (XLSX), application/x-ndjson or application/json (an array of records).',
-			headers: { 'accept-post': 'text/csv, application/vnd.openxmlformats-officedocument.spreadsheetml.sheet, application/x-ndjson, application/json' }
+			headers: {
+				'accept-post': 'text/csv, application/vnd.openxmlformats-officedocument.spreadsheetml.sheet, application/x-ndjson, application/json'
+			}
 		});
 	return format as UploadFormat;
 }

@@ -10,13 +10,12 @@ import { sql, type Transaction } from 'kysely';
 import type { Finding } from '$lib/schema/findings';
 import { getDb, getPool } from '../db';
 import type { BatchMode, Database } from '../db/schema';
-import { hubStateFips } from '../db/settings';
 import { config } from '../config';
 import { logger } from '../log';
 import { queueMail } from '../mail/queue';
 import { tryLockDistrictRecords, upsertRecords, type IncomingRecord, type Outcome } from '../records/upsert';
 import { getObjectStore } from '../storage/object-store';
-import { createRecordChecker, readRows, type CheckerContext } from './intake-schema';
+import { checkFile, declaredCharset, loadCheckContext } from './intake-schema';
 
 const CHUNK_ROWS = Number(process.env.BATCH_CHUNK_ROWS ?? 1000);
 const FINDINGS_FLUSH = 1000;
@@ -34,7 +33,7 @@ export interface ProcessOutcome {
 
 interface Tally {
 	rows: number;
-	rejectedRows: Set<number>;
+	rejectedRows: number;
 	errors: number;
 	warnings: number;
 	fileErrors: number;
@@ -48,21 +47,6 @@ interface Tally {
 
 function bump(m: Map<string, number>, k: string) {
 	m.set(k, (m.get(k) ?? 0) + 1);
-}
-
-/** Today's date for the "not in the future" check (UTC; at most a day lenient in US time zones). */
-function todayUtc(): string {
-	return new Date().toISOString().slice(0, 10);
-}
-
-async function checkerContext(districtId: number): Promise<CheckerContext> {
-	const db = getDb();
-	const counties = await db.selectFrom('district_counties').select('county_fips').where('district_id', '=', districtId).execute();
-	return {
-		stateFips: await hubStateFips(db),
-		districtCounties: new Set(counties.map((c) => c.county_fips.trim())),
-		today: todayUtc()
-	};
 }
 
 /**
@@ -99,6 +83,7 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 			'b.archive_key',
 			'b.actor',
 			'b.file_name',
+			'b.content_type',
 			'd.code as district_code',
 			'd.name as district_name',
 			'd.contacts',
@@ -123,14 +108,13 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 		.where('id', '=', batchId)
 		.execute();
 
-	const ctx = await checkerContext(batch.district_id);
-	const checker = createRecordChecker(ctx);
+	const ctx = await loadCheckContext(db, { districtId: batch.district_id });
 	const store = await getObjectStore();
 	const mode = batch.mode as BatchMode;
 
 	const tally: Tally = {
 		rows: 0,
-		rejectedRows: new Set(),
+		rejectedRows: 0,
 		errors: 0,
 		warnings: 0,
 		fileErrors: 0,
@@ -163,7 +147,6 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 		if (f.severity === 'error') {
 			tally.errors++;
 			if (f.row === null) tally.fileErrors++;
-			else tally.rejectedRows.add(f.row);
 		} else tally.warnings++;
 		bump(tally.byCode, f.code);
 		if (f.column) bump(tally.byColumn, f.column);
@@ -203,35 +186,36 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 
 	const run = async (trx: Transaction<Database>) => {
 		// Batches of one district are written one after another; keep reporting while waiting our turn.
-		if (writes) while (!(await tryLockDistrictRecords(trx, batch.district_id))) {
-			await new Promise((r) => setTimeout(r, 500));
-			await heartbeat(true);
-		}
+		if (writes)
+			while (!(await tryLockDistrictRecords(trx, batch.district_id))) {
+				await new Promise((r) => setTimeout(r, 500));
+				await heartbeat(true);
+			}
 		try {
-			for await (const ev of readRows(guarded, batch.format, { sheet: batch.sheet ?? undefined })) {
+			const events = checkFile(guarded, batch.format, ctx, {
+				sheet: batch.sheet ?? undefined,
+				encoding: declaredCharset(batch.content_type)
+			});
+			for await (const ev of events) {
 				if (ev.kind === 'source') tally.encoding = ev.encoding ?? null;
-				else if (ev.kind === 'header') {
-					for (const f of checker.header(ev.columns, ev.row)) await addFinding(f);
-				} else if (ev.kind === 'finding') {
-					// With a row number: a row that could not be read at all (it counts as a rejected row).
-					if (ev.finding.row !== null) tally.rows++;
-					await addFinding(ev.finding);
-				} else if (ev.kind === 'row') {
+				else if (ev.kind === 'file-finding') await addFinding(ev.finding);
+				else if (ev.kind === 'row') {
 					tally.rows++;
-					for (const f of ev.findings ?? []) await addFinding(f);
-					const { record, findings } = checker.row(ev.values, ev.row);
-					for (const f of findings) await addFinding(f);
-					if (record && !findings.some((f) => f.severity === 'error') && !tally.rejectedRows.has(ev.row)) {
-						chunk.push({ record: record as Record<string, unknown>, warnings: findings.filter((f) => f.severity === 'warning') });
-					}
-					if (chunk.length >= CHUNK_ROWS) await flushChunk(trx);
+					for (const f of ev.findings) await addFinding(f);
+					if (ev.record) {
+						chunk.push({
+							record: ev.record as unknown as Record<string, unknown>,
+							warnings: ev.findings.filter((f) => f.severity === 'warning')
+						});
+						if (chunk.length >= CHUNK_ROWS) await flushChunk(trx);
+					} else tally.rejectedRows++;
 					await heartbeat();
 				}
 			}
 		} catch (e) {
 			if (e instanceof SourceError) throw e;
-			// The file itself could not be read to the end: a file-level finding; nothing is written.
-			logger.info({ err: e, batchId }, 'batch file unreadable');
+			// The reader turns bad content into findings; anything it still throws is reported the same way.
+			logger.warn({ err: e, batchId }, 'batch file could not be read to the end');
 			await addFinding({
 				code: 'file-unreadable',
 				severity: 'error',
@@ -241,7 +225,8 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 				cell: null,
 				value: null,
 				rule: null,
-				message: `The file could not be read to the end (${e instanceof Error ? e.message : String(e)}). Nothing from it was saved.`
+				message:
+					'The file could not be read to the end. Nothing from it was saved. Check that it is a complete, unprotected file in the format it was sent as.'
 			});
 		}
 		await flushChunk(trx);
@@ -249,7 +234,7 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 		await heartbeat(true);
 
 		const fileRejected = tally.fileErrors > 0;
-		const rowRejected = tally.rejectedRows.size;
+		const rowRejected = tally.rejectedRows;
 		const nothingWritten = fileRejected || (mode === 'all' && tally.errors > 0);
 		const rejected = nothingWritten ? tally.rows : Math.min(rowRejected, tally.rows);
 		const accepted = tally.rows - rejected;

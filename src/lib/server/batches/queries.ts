@@ -111,13 +111,7 @@ export async function listFindings(batchId: string, url: URL, filters: FindingFi
 		.orderBy('seq')
 		.limit(limit + 1)
 		.execute();
-	return toPage(
-		url,
-		rows as Array<Record<string, unknown>>,
-		limit,
-		(r) => ({ seq: r.seq as number }),
-		findingView
-	);
+	return toPage(url, rows as Array<Record<string, unknown>>, limit, (r) => ({ seq: r.seq as number }), findingView);
 }
 
 export const FINDING_CSV_COLUMNS = ['row', 'column', 'column_number', 'cell', 'severity', 'code', 'message', 'value', 'rule'] as const;

@@ -39,11 +39,19 @@ export async function requeueStaleBatches(staleSeconds = config.batchStaleSecond
 }
 
 export async function deleteExpiredIdempotencyKeys(): Promise<number> {
-	const r = await getDb().deleteFrom('idempotency_keys').where('expires_at', '<', sql<Date>`now()`).executeTakeFirst();
+	const r = await getDb()
+		.deleteFrom('idempotency_keys')
+		.where('expires_at', '<', sql<Date>`now()`)
+		.executeTakeFirst();
 	return Number(r.numDeletedRows ?? 0);
 }
 
+let wake: (() => void) | undefined;
+
 async function handleBatchJob(jobs: PgBoss.JobWithMetadata<BatchJob>[]): Promise<void> {
+	// pg-boss waits a polling interval after every fetch unless notified: with a backlog, fetch the next
+	// job right away.
+	wake?.();
 	for (const job of jobs) {
 		const { batchId } = job.data;
 		const started = Date.now();
@@ -79,8 +87,9 @@ export async function startBatchWorker(): Promise<void> {
 		handleBatchJob
 	);
 	workerIds.push(id);
+	wake = () => boss.notifyWorker(id);
 	// A job enqueued by this very process is fetched at once rather than at the next poll.
-	unsubscribe = onEnqueued(() => boss.notifyWorker(id));
+	unsubscribe = onEnqueued(wake);
 
 	workerIds.push(
 		await boss.work(SWEEP_QUEUE, { pollingIntervalSeconds: 30 }, async () => {
@@ -102,6 +111,7 @@ export async function startBatchWorker(): Promise<void> {
 export async function stopBatchWorker(): Promise<void> {
 	unsubscribe?.();
 	unsubscribe = undefined;
+	wake = undefined;
 	workerIds = [];
 	await stopBoss();
 }

@@ -7,10 +7,6 @@ export async function readSetting<T>(db: Kysely<Database> | Transaction<Database
 	return row ? (row.value as T) : fallback;
 }
 
-export async function hubStateFips(db: Kysely<Database> | Transaction<Database>): Promise<string> {
-	return String(await readSetting(db, 'hub_state_fips', process.env.HUB_STATE_FIPS ?? '19')).padStart(2, '0');
-}
-
 export async function stateFyStartMonth(db: Kysely<Database> | Transaction<Database>): Promise<number> {
 	return Number(await readSetting(db, 'state_fy_start_month', 7));
 }

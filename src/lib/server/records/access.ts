@@ -62,8 +62,7 @@ export async function readableDistrictId(db: Kysely<Database>, principal: Princi
 		if (principal.districtId === null) throw new ApiError({ status: 403, detail: 'Your account is not bound to a district.' });
 		if (code) {
 			const own = await districtById(db, principal.districtId);
-			if (code !== own.code)
-				throw new ApiError({ status: 403, type: 'other-district', detail: `You may only read district ${own.code}.` });
+			if (code !== own.code) throw new ApiError({ status: 403, type: 'other-district', detail: `You may only read district ${own.code}.` });
 		}
 		return principal.districtId;
 	}

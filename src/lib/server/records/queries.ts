@@ -154,6 +154,11 @@ export async function recordDetail(db: Db, principal: Principal, id: string): Pr
 }
 
 export async function recordIdByLocalId(db: Db, districtId: number, localId: string): Promise<string | undefined> {
-	const r = await db.selectFrom('records').select('id').where('district_id', '=', districtId).where('local_id', '=', localId).executeTakeFirst();
+	const r = await db
+		.selectFrom('records')
+		.select('id')
+		.where('district_id', '=', districtId)
+		.where('local_id', '=', localId)
+		.executeTakeFirst();
 	return r?.id;
 }

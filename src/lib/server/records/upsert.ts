@@ -33,21 +33,20 @@ export interface UpsertResult {
 }
 
 /** Columns of `records` copied from the record (the full record is kept in `data`). */
-const COLUMN_FIELDS = [
-	'practice_code',
-	'county_fips',
-	'installed_on',
-	'status',
-	'withdrawn_on',
-	'extent_acres',
-	'drainage_area_acres',
-	'field_id',
-	'operation_id',
-	'huc12',
-	'cost_total_usd',
-	'cost_share_usd',
-	'funding_program'
-] as const;
+type ColumnField =
+	| 'practice_code'
+	| 'county_fips'
+	| 'installed_on'
+	| 'status'
+	| 'withdrawn_on'
+	| 'extent_acres'
+	| 'drainage_area_acres'
+	| 'field_id'
+	| 'operation_id'
+	| 'huc12'
+	| 'cost_total_usd'
+	| 'cost_share_usd'
+	| 'funding_program';
 
 export function contentHash(data: RecordData): string {
 	return createHash('sha256').update(JSON.stringify(data)).digest('hex');
@@ -64,7 +63,9 @@ export async function lockDistrictRecords(trx: Transaction<Database>, districtId
 
 /** The same lock without waiting: false when another transaction writes this district's records. */
 export async function tryLockDistrictRecords(trx: Transaction<Database>, districtId: number): Promise<boolean> {
-	const r = await sql<{ ok: boolean }>`select pg_try_advisory_xact_lock(hashtextextended(${districtLockKey(districtId)}, 0)) as ok`.execute(trx);
+	const r = await sql<{ ok: boolean }>`select pg_try_advisory_xact_lock(hashtextextended(${districtLockKey(districtId)}, 0)) as ok`.execute(
+		trx
+	);
 	return r.rows[0].ok;
 }
 
@@ -79,7 +80,13 @@ interface Prepared {
 export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertContext, items: IncomingRecord[]): Promise<UpsertResult> {
 	const prepared: Prepared[] = items.map((it) => {
 		const data = canonicalData(it.record);
-		return { localId: String(data.local_id), data, hash: contentHash(data), status: String(data.status ?? 'installed'), warnings: it.warnings };
+		return {
+			localId: String(data.local_id),
+			data,
+			hash: contentHash(data),
+			status: String(data.status ?? 'installed'),
+			warnings: it.warnings
+		};
 	});
 	const outcomes: Outcome[] = new Array(items.length);
 	const recordIds: Array<string | null> = new Array(items.length).fill(null);
@@ -116,7 +123,7 @@ export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertConte
 	const versionRows: Array<{ id: string; version: number; data: RecordData; changed: string[]; warnings: Finding[] }> = [];
 
 	if (toCreate.length > 0) {
-		const col = (f: (typeof COLUMN_FIELDS)[number]) => toCreate.map((i) => text(prepared[i].data[f]));
+		const col = (f: ColumnField) => toCreate.map((i) => text(prepared[i].data[f]));
 		const inserted = await sql<{ id: string; local_id: string }>`
 			insert into records (district_id, local_id, version, practice_code, county_fips, installed_on, status, withdrawn_on,
 				extent_acres, drainage_area_acres, field_id, operation_id, huc12, cost_total_usd, cost_share_usd, funding_program,
@@ -137,7 +144,13 @@ export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertConte
 		for (const i of toCreate) {
 			const id = ids.get(prepared[i].localId)!;
 			recordIds[i] = id;
-			versionRows.push({ id, version: 1, data: prepared[i].data, changed: Object.keys(prepared[i].data).sort(), warnings: prepared[i].warnings });
+			versionRows.push({
+				id,
+				version: 1,
+				data: prepared[i].data,
+				changed: Object.keys(prepared[i].data).sort(),
+				warnings: prepared[i].warnings
+			});
 		}
 	}
 
@@ -146,7 +159,7 @@ export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertConte
 		const before = await sql<{ id: string; data: RecordData }>`
 			select id::text as id, data from records where id = any(${ids}::bigint[])`.execute(trx);
 		const beforeData = new Map(before.rows.map((r) => [r.id, r.data]));
-		const col = (f: (typeof COLUMN_FIELDS)[number]) => toUpdate.map((i) => text(prepared[i].data[f]));
+		const col = (f: ColumnField) => toUpdate.map((i) => text(prepared[i].data[f]));
 		const updated = await sql<{ id: string; version: number }>`
 			update records r set
 				version = r.version + 1, practice_code = u.practice_code, county_fips = u.county_fips, installed_on = u.installed_on::date,

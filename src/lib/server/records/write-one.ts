@@ -3,9 +3,8 @@
 import type { Principal } from '../auth/principal';
 import { actorOf } from '../auth/principal';
 import { getDb } from '../db';
-import { hubStateFips } from '../db/settings';
 import { ApiError } from '../http/problem';
-import { createRecordChecker } from '../batches/intake-schema';
+import { createRecordChecker, loadCheckContext } from '../batches/intake-schema';
 import { writableDistrict } from './access';
 import { recordDetail } from './queries';
 import { lockDistrictRecords, upsertRecords } from './upsert';
@@ -42,12 +41,7 @@ export async function putRecord(principal: Principal, districtCode: string, loca
 		});
 	values.local_id = localId;
 
-	const counties = await db.selectFrom('district_counties').select('county_fips').where('district_id', '=', district.id).execute();
-	const checker = createRecordChecker({
-		stateFips: await hubStateFips(db),
-		districtCounties: new Set(counties.map((c) => c.county_fips.trim())),
-		today: new Date().toISOString().slice(0, 10)
-	});
+	const checker = createRecordChecker(await loadCheckContext(db, { districtId: district.id }));
 	const { record, findings } = checker.row(values, 1);
 	const errors = findings.filter((f) => f.severity === 'error');
 	if (!record || errors.length > 0) {
@@ -62,11 +56,9 @@ export async function putRecord(principal: Principal, districtCode: string, loca
 	const warnings = findings.filter((f) => f.severity === 'warning').map((f) => ({ ...f, row: null, cell: null }));
 	return db.transaction().execute(async (trx) => {
 		await lockDistrictRecords(trx, district.id);
-		const res = await upsertRecords(
-			trx,
-			{ districtId: district.id, batchId: null, actor: actorOf(principal), dryRun: false },
-			[{ record: record as unknown as Record<string, unknown>, warnings }]
-		);
+		const res = await upsertRecords(trx, { districtId: district.id, batchId: null, actor: actorOf(principal), dryRun: false }, [
+			{ record: record as unknown as Record<string, unknown>, warnings }
+		]);
 		const id = res.recordIds[0]!;
 		const outcome = res.outcomes[0];
 		const detail = await recordDetail(trx, principal, id);

@@ -115,7 +115,9 @@ async function createStore(): Promise<ObjectStore> {
 	try {
 		await store.ensureBucket();
 	} catch (e) {
-		throw new Error(`port ${port} on 127.0.0.1 is taken by something that is not an S3 server (set S3_FAKE_PORT or S3_URL): ${e}`);
+		throw new Error(`port ${port} on 127.0.0.1 is taken by something that is not an S3 server (set S3_FAKE_PORT or S3_URL): ${e}`, {
+			cause: e
+		});
 	}
 	return store;
 }

@@ -23,7 +23,11 @@ function fileNameFrom(header: string | null): string | null {
 	}
 	name ??= /filename\s*=\s*"((?:[^"\\]|\\.)*)"/.exec(header)?.[1] ?? /filename\s*=\s*([^;\s]+)/.exec(header)?.[1] ?? null;
 	if (!name) return null;
-	const base = name.split(/[\\/]/).pop()!.replace(/[\x00-\x1f\x7f]/g, '').trim();
+	// No folders, no control characters.
+	const base = [...name.split(/[\\/]/).pop()!]
+		.filter((ch) => ch.charCodeAt(0) >= 0x20 && ch.charCodeAt(0) !== 0x7f)
+		.join('')
+		.trim();
 	return base.slice(0, 255) || null;
 }
 
@@ -40,7 +44,7 @@ export const POST: RequestHandler = async ({ request, url, locals }) => {
 	const answer = await createBatch(locals.principal!, {
 		mode,
 		format,
-		contentType: (contentType ?? '').split(';')[0].trim().toLowerCase(),
+		contentType: (contentType ?? '').trim().slice(0, 200),
 		districtCode: patternParam(url, 'district', /^[A-Za-z0-9_-]{1,32}$/, 'a district code'),
 		sheet,
 		fileName,
