@@ -1,8 +1,9 @@
 // `runnel check` runs the hub's own reader and checker offline: for every file, its findings equal the
 // findings the hub stores for the same file sent with mode=check (same codes, rows, columns, cells,
 // values and messages). Files: tricky inputs made here (encodings, quoting, ragged rows, JSON shapes,
-// formulas, dates and numbers people really type).
-import { mkdtempSync, writeFileSync } from 'node:fs';
+// formulas, dates and numbers people really type), every case of the bad-input corpus
+// (tests/fixtures/bad/manifest.json) and the demo files.
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -20,6 +21,7 @@ import {
 	type FindingBody
 } from '../helpers/batches';
 import { runCli } from '../helpers/cli';
+import { makeZip, MINIMAL_PARTS } from '../unit/helpers/zip';
 
 let app: { origin: string; close: () => Promise<void> };
 beforeAll(async () => {
@@ -167,5 +169,124 @@ describe('runnel check = the hub with mode=check', () => {
 		const file = path.join(dir, 'mixed-mistakes.csv');
 		const { findings } = await cliFindings(file, counties || (await blhCounties()));
 		expect(new Set(findings.map((f) => f.code)).size).toBeGreaterThanOrEqual(5);
+	});
+});
+
+// ---------------------------------------------------------------------------------------------------
+// The bad-input corpus: every case, committed file or generated, through the hub and through the CLI.
+
+const CORPUS = path.resolve(import.meta.dirname, '..', 'fixtures', 'bad');
+interface CorpusCase {
+	file?: string;
+	generate?: string;
+	format: string;
+	content_type: string;
+	sheet?: string;
+}
+const corpus = JSON.parse(readFileSync(path.join(CORPUS, 'manifest.json'), 'utf8')) as { cases: CorpusCase[] };
+
+/**
+ * The generated cases (too big or too dangerous to commit), made the way tests/unit/bad-corpus.test.ts
+ * makes them. If the corpus gains a generator this test does not know, it fails rather than skip it.
+ */
+function generateCase(name: string): Buffer {
+	const HEADER = 'local_id,practice_code,county_fips,installed_on,extent_acres,notes\n';
+	const OK = (id: string) => `${id},340,19109,2024-10-01,80,fine\n`;
+	const TEN_MB = 10 * 1024 * 1024;
+	const rec = (id: string, notes: string) => ({
+		local_id: id,
+		practice_code: '340',
+		county_fips: '19109',
+		installed_on: '2024-10-01',
+		extent_acres: 80,
+		notes
+	});
+	switch (name) {
+		case 'csv-10mb-cell':
+			return Buffer.from(`${HEADER}${OK('G-1')}G-2,340,19109,2024-10-01,80,"${'x'.repeat(TEN_MB)}"\n${OK('G-3')}`);
+		case 'csv-40kb-cell':
+			return Buffer.from(`${HEADER}${OK('G-1')}G-2,340,19109,2024-10-01,80,${'x'.repeat(40 * 1024)}\n`);
+		case 'ndjson-10mb-cell':
+			return Buffer.from(
+				[rec('G-1', 'fine'), rec('G-2', 'x'.repeat(TEN_MB)), rec('G-3', 'fine')].map((r) => JSON.stringify(r) + '\n').join('')
+			);
+		case 'json-10mb-cell':
+			return Buffer.from(JSON.stringify([rec('G-1', 'fine'), rec('G-2', 'x'.repeat(TEN_MB))]));
+		case 'xlsx-zip-bomb':
+			return makeZip([...MINIMAL_PARTS, { name: 'xl/sharedStrings.xml', data: Buffer.alloc(1024 * 1024), declaredSize: 0xf0000000 }]);
+		case 'xlsx-lying-sizes':
+			return makeZip([...MINIMAL_PARTS, { name: 'xl/sharedStrings.xml', data: Buffer.alloc(50 * 1024 * 1024), declaredSize: 1000 }]);
+		default:
+			throw new Error(`the corpus has a generated case this test does not know: ${name}`);
+	}
+}
+
+describe('runnel check = the hub, for every case of the bad-input corpus', () => {
+	const label = (c: CorpusCase) => `${c.file ?? `(generated) ${c.generate}`}${c.sheet ? ` sheet=${c.sheet}` : ''}`;
+	const results = new Map<string, { server: Comparable[]; cli: Comparable[]; cliCode: number | null }>();
+
+	beforeAll(async () => {
+		const counties = await blhCounties();
+		// The hub: every case sent with mode=check first, then all of them awaited.
+		const sent: Array<{ c: CorpusCase; id: string }> = [];
+		const files: Array<{ c: CorpusCase; file: string }> = [];
+		for (const [i, c] of corpus.cases.entries()) {
+			const body = c.file ? readFileSync(path.join(CORPUS, c.file)) : generateCase(c.generate!);
+			const file = c.file ? path.join(CORPUS, c.file) : path.join(dir, `generated-${i}-${c.generate}.${c.format}`);
+			if (!c.file) writeFileSync(file, body);
+			files.push({ c, file });
+			const q = new URLSearchParams({ mode: 'check' });
+			if (c.sheet) q.set('sheet', c.sheet);
+			const res = await fetch(`${app.origin}/api/v1/batches?${q}`, {
+				method: 'POST',
+				headers: {
+					authorization: `Bearer ${DEMO_TOKENS.district}`,
+					'content-type': c.content_type,
+					'content-disposition': `attachment; filename="${path.basename(file)}"`
+				},
+				body
+			});
+			const answer = (await res.json()) as { id: string };
+			expect(res.status, `${label(c)}: ${JSON.stringify(answer)}`).toBe(202);
+			sent.push({ c, id: answer.id });
+		}
+		// The CLI: one run per (format, sheet), all files of the group at once.
+		const groups = new Map<string, Array<{ c: CorpusCase; file: string }>>();
+		for (const f of files) {
+			const k = `${f.c.format}|${f.c.sheet ?? ''}`;
+			groups.set(k, [...(groups.get(k) ?? []), f]);
+		}
+		const cli = new Map<CorpusCase, { findings: Comparable[]; code: number | null }>();
+		for (const group of groups.values()) {
+			const { format, sheet } = group[0].c;
+			const args = ['check', '--json', '--offline', '--counties', counties, '--format', format, ...(sheet ? ['--sheet', sheet] : [])];
+			const r = await runCli([...args, ...group.map((g) => g.file)], { timeoutMs: 300_000 });
+			expect([0, 2], r.stderr).toContain(r.code);
+			const out = JSON.parse(r.stdout) as Array<{ findings: Comparable[] }>;
+			expect(out).toHaveLength(group.length);
+			// Each file alone decides its own exit code; the group's is the worst of them.
+			group.forEach((g, i) =>
+				cli.set(g.c, { findings: out[i].findings, code: out[i].findings.some((f) => f.severity === 'error') ? 2 : 0 })
+			);
+		}
+		for (const { c, id } of sent) {
+			const b = await waitForBatch(DEMO_TOKENS.district, id, undefined, 300_000);
+			expect(b.status, label(c)).toBe('done');
+			const local = cli.get(c)!;
+			results.set(label(c), { server: await allFindings(DEMO_TOKENS.district, id), cli: local.findings, cliCode: local.code });
+		}
+	}, 900_000);
+
+	it.each(corpus.cases.map((c) => [label(c)]))('%s', (name) => {
+		const r = results.get(name)!;
+		expect(r, 'checked by both').toBeDefined();
+		expect(normalise(r.cli)).toEqual(normalise(r.server));
+	});
+
+	it('the comparison is not vacuous: most cases give findings, of many kinds', () => {
+		const all = [...results.values()];
+		expect(all).toHaveLength(corpus.cases.length);
+		expect(all.filter((r) => r.server.length > 0).length).toBeGreaterThanOrEqual(30);
+		expect(new Set(all.flatMap((r) => r.server.map((f) => f.code))).size).toBeGreaterThanOrEqual(20);
 	});
 });

@@ -2,13 +2,13 @@
 // makes a second batch, even when the connection was cut mid-upload or the answer was lost), --wait
 // with findings and exit code 2, --json, and the errors a nightly script must tell apart.
 import { createHash } from 'node:crypto';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import net from 'node:net';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DEMO_TOKENS, startApp } from '../helpers/app';
-import { BASIC_HEADER, BLH_COUNTY, closeTestDb, count, csv, uniquePrefix } from '../helpers/batches';
+import { DEMO_TOKENS, ROOT, startApp } from '../helpers/app';
+import { BASIC_HEADER, BLH_COUNTY, closeTestDb, count, csv, db, uniquePrefix } from '../helpers/batches';
 import { runCli } from '../helpers/cli';
 
 let app: { origin: string; close: () => Promise<void> };
@@ -134,7 +134,6 @@ describe('runnel upload --wait', () => {
 
 	it('stdin (-) is spooled, hashed and sent like a file', async () => {
 		const f = cleanFile('stdin.csv', 2);
-		const { readFileSync } = await import('node:fs');
 		const r = await runCli(['upload', '--wait', '--format', 'csv', '-'], { ...asDistrict(), input: readFileSync(f.file) });
 		expect(r.code, r.stderr).toBe(0);
 		expect(r.stdout).toMatch(/^stdin: batch \d+ done/);
@@ -269,5 +268,55 @@ describe('a cut connection never makes a second batch', () => {
 		expect(again.stderr).toContain('already sent with the same Idempotency-Key');
 		expect(await batchesWithSha(f.sha256)).toBe(1);
 		expect(await count('select count(*) as n from records where local_id like $1', [`${f.prefix}-%`])).toBe(200);
+	});
+});
+
+describe('the demo upload files (seeds/demo)', () => {
+	const DEMO = path.join(ROOT, 'seeds', 'demo');
+	interface Mistake {
+		row: number;
+		column: string;
+		code: string;
+		severity: 'error' | 'warning';
+		what: string;
+	}
+	const mistakes = (JSON.parse(readFileSync(path.join(DEMO, 'mistakes.json'), 'utf8')) as { mistakes: Mistake[] }).mistakes;
+	const header = readFileSync(path.join(DEMO, 'mistakes.csv'), 'utf8').split(/\r?\n/)[0].split(',');
+
+	it('the mistakes file: exit 2, and every documented mistake printed with its row and column', async () => {
+		const r = await runCli(['upload', '--wait', path.join(DEMO, 'mistakes.csv')], asDistrict());
+		expect(r.code, r.stderr).toBe(2);
+		expect(r.stdout).toMatch(/^mistakes\.csv: batch \d+ done \(mode all, district BLH\): .*nothing saved \(mode all\)$/m);
+		expect(mistakes.length).toBeGreaterThanOrEqual(12);
+		for (const m of mistakes) {
+			const col = header.indexOf(m.column) + 1;
+			expect(col, m.column).toBeGreaterThan(0);
+			expect(r.stdout, `${m.what}: expected mistakes.csv:${m.row}:${col}: ${m.severity} ${m.code}`).toMatch(
+				new RegExp(`^mistakes\\.csv:${m.row}:${col}: ${m.severity} ${m.code}: .{10,}$`, 'm')
+			);
+		}
+	});
+
+	it.each(['clean.csv', 'clean.xlsx'])('%s: exit 0', async (name) => {
+		const r = await runCli(['upload', '--wait', path.join(DEMO, name)], asDistrict());
+		expect(r.code, r.stdout + r.stderr).toBe(0);
+		expect(r.stdout).toMatch(new RegExp(`^${name.replace('.', '\\.')}: batch \\d+ done .* 0 rejected; 0 errors`, 'm'));
+	});
+
+	it('runnel check prints the same mistakes offline, before anything is sent', async () => {
+		const counties = (
+			await (
+				await db()
+			).query<{ c: string }>(
+				`select dc.county_fips as c from district_counties dc join districts d on d.id = dc.district_id where d.code = 'BLH'`
+			)
+		).rows
+			.map((x) => x.c.trim())
+			.join(',');
+		const r = await runCli(['check', '--offline', '--counties', counties, path.join(DEMO, 'mistakes.csv')]);
+		expect(r.code).toBe(2);
+		for (const m of mistakes)
+			expect(r.stdout).toMatch(new RegExp(`^mistakes\\.csv:${m.row}:${header.indexOf(m.column) + 1}: ${m.severity} ${m.code}: `, 'm'));
+		expect(r.stderr).toMatch(/mistakes\.csv: \d+ rows, \d+ accepted, \d+ rejected; \d+ errors, \d+ warnings/);
 	});
 });
