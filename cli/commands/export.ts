@@ -6,7 +6,10 @@ import { once } from 'node:events';
 import type { Writable } from 'node:stream';
 import { Option, type Command } from 'commander';
 import type { Context } from '../context';
-import { EXIT, UsageError } from '../exit-codes';
+import { CliError, EXIT, UsageError } from '../exit-codes';
+import { parseRetryAfter } from '../backoff';
+import { readText, type Query } from '../http';
+import { setTimeout as delay } from 'node:timers/promises';
 import { fyParam, parseFyRange, type FyRange } from '../fiscal-years';
 import { openSink, type Sink } from '../sink';
 import type { Registry } from '../program';
@@ -127,25 +130,32 @@ function range(a: number, b: number): number[] {
 	return Array.from({ length: b - a + 1 }, (_, i) => a + i);
 }
 
-/** Copies a server-formatted export into the sink. */
-async function passThrough(
-	ctx: Context,
-	path: string,
-	query: Record<string, string | number | undefined>,
-	opts: ExportOptions
-): Promise<number> {
+/** How long an export waits for the hub to finish computing (it answers 202 + Retry-After meanwhile). */
+const PENDING_LIMIT_MS = 10 * 60 * 1000;
+
+/** Copies a server-formatted export into the sink, waiting while the hub answers 202 (still computing). */
+async function passThrough(ctx: Context, path: string, query: Query, opts: ExportOptions): Promise<number> {
 	const client = ctx.client();
 	const sink = openSink(ctx.io, opts.output, { binary: opts.format === 'xlsx' });
 	try {
-		const res = await client.request({ path, query: { ...query, format: opts.format }, headers: { accept: ACCEPT[opts.format] } });
+		const started = Date.now();
+		let res = await client.request({ path, query: { ...query, format: opts.format }, headers: { accept: ACCEPT[opts.format] } });
+		while (res.status === 202) {
+			await readText(res.body);
+			if (Date.now() - started > PENDING_LIMIT_MS) throw new CliError('the hub is still computing this export after 10 minutes; try again later.');
+			const wait = parseRetryAfter(res.headers['retry-after'] as string | undefined) ?? 2000;
+			ctx.ui.info(`the hub is still computing; asking again in ${Math.round(wait / 1000)} s`);
+			await delay(Math.min(30_000, Math.max(100, wait)));
+			res = await client.request({ path, query: { ...query, format: opts.format }, headers: { accept: ACCEPT[opts.format] } });
+		}
 		await sink.pour(res.body);
-		if (!res.body.complete) throw new Error('the connection closed before the export was complete');
+		if (!res.body.complete) throw new CliError('the connection closed before the export was complete; nothing was kept.');
 		await sink.commit();
 	} catch (e) {
 		sink.abort();
 		throw e;
 	}
-	ctx.ui.info(`export written to ${sink.label}`);
+	if (!sink.toStdout) ctx.ui.info(`export written to ${sink.label}`);
 	return EXIT.ok;
 }
 
@@ -157,7 +167,7 @@ const ACCEPT: Record<ExportFormat, string> = {
 };
 
 interface RollupOptions extends ExportOptions {
-	group?: string;
+	group?: string[];
 	basis?: string;
 	fyBasis?: string;
 	method?: string;
@@ -206,7 +216,7 @@ Examples:
 		.description('sums by county × fiscal year × practice (as the hub computes them)')
 		.addOption(new Option('--format <format>', 'output format').choices(['csv', 'xlsx', 'json']).default('csv'))
 		.addOption(fyOption())
-		.option('--group <dims>', 'grouping, e.g. county,fy,practice or huc8 or district')
+		.option('--group <dims>', 'a grouping, e.g. county,fy,practice or huc8,practice (repeat for more sheets in XLSX)', (v: string, prev: string[] = []) => [...prev, v])
 		.addOption(new Option('--basis <basis>', 'in_service or installed').choices(['in_service', 'installed']))
 		.addOption(new Option('--fy-basis <basis>', 'state or federal fiscal years').choices(['state', 'federal']))
 		.option('--method <version>', 'a reduction method version (default: the active one)')
@@ -219,6 +229,7 @@ Examples:
 			`
 Examples:
   $ runnel export rollups --fy 2020..2027 --format xlsx -o rollups.xlsx
+  $ runnel export rollups --group county,practice --group district --format xlsx -o -  > r.xlsx
   $ runnel export rollups --group huc8 --basis installed --format csv`
 		)
 		.action(
@@ -229,7 +240,7 @@ Examples:
 					'/api/v1/rollups',
 					{
 						fy: opts.fy ? fyParam(opts.fy) : undefined,
-						group: opts.group,
+						group: opts.group?.join('|'),
 						basis: opts.basis,
 						fy_basis: opts.fyBasis,
 						method: opts.method,
