@@ -142,7 +142,8 @@ async function passThrough(ctx: Context, path: string, query: Query, opts: Expor
 		let res = await client.request({ path, query: { ...query, format: opts.format }, headers: { accept: ACCEPT[opts.format] } });
 		while (res.status === 202) {
 			await readText(res.body);
-			if (Date.now() - started > PENDING_LIMIT_MS) throw new CliError('the hub is still computing this export after 10 minutes; try again later.');
+			if (Date.now() - started > PENDING_LIMIT_MS)
+				throw new CliError('the hub is still computing this export after 10 minutes; try again later.');
 			const wait = parseRetryAfter(res.headers['retry-after'] as string | undefined) ?? 2000;
 			ctx.ui.info(`the hub is still computing; asking again in ${Math.round(wait / 1000)} s`);
 			await delay(Math.min(30_000, Math.max(100, wait)));
@@ -216,7 +217,11 @@ Examples:
 		.description('sums by county × fiscal year × practice (as the hub computes them)')
 		.addOption(new Option('--format <format>', 'output format').choices(['csv', 'xlsx', 'json']).default('csv'))
 		.addOption(fyOption())
-		.option('--group <dims>', 'a grouping, e.g. county,fy,practice or huc8,practice (repeat for more sheets in XLSX)', (v: string, prev: string[] = []) => [...prev, v])
+		.option(
+			'--group <dims>',
+			'a grouping, e.g. county,fy,practice or huc8,practice (repeat for more sheets in XLSX)',
+			(v: string, prev: string[] = []) => [...prev, v]
+		)
 		.addOption(new Option('--basis <basis>', 'in_service or installed').choices(['in_service', 'installed']))
 		.addOption(new Option('--fy-basis <basis>', 'state or federal fiscal years').choices(['state', 'federal']))
 		.option('--method <version>', 'a reduction method version (default: the active one)')

@@ -153,8 +153,9 @@ async function uploadOne(
 
 async function printResult(ctx: Context, r: FileResult): Promise<void> {
 	const ui = ctx.ui;
-	const ok = r.exit === EXIT.ok;
-	if (!(ui.quiet && ok)) await ui.line(summarizeBatch(r.batch, r.file));
+	// --quiet: a night where everything went in prints nothing at all (warnings stay on the hub's report).
+	if (ui.quiet && r.exit === EXIT.ok) return;
+	await ui.line(summarizeBatch(r.batch, r.file));
 	for (const f of r.findings ?? []) await ui.line(formatFinding(r.file, f, ui));
 	if (r.findings_not_shown)
 		await ui.line(`${r.file}: … and ${r.findings_not_shown} more findings: runnel batches ${r.batch.id} --findings`);

@@ -320,3 +320,23 @@ describe('the demo upload files (seeds/demo)', () => {
 		expect(r.stderr).toMatch(/mistakes\.csv: \d+ rows, \d+ accepted, \d+ rejected; \d+ errors, \d+ warnings/);
 	});
 });
+
+describe('--quiet', () => {
+	it('a night where every row went in prints nothing, even with warnings; rejected rows are still printed', async () => {
+		const w = uniquePrefix('QW');
+		const warned = path.join(dir, 'quiet-warned.csv');
+		writeFileSync(warned, csv([...BASIC_HEADER, 'notes'], [[`${w}-1`, '340', BLH_COUNTY, '2024-10-01', '', '', '50', '', '=SUM(1,2)']]));
+		const loud = await runCli(['upload', '--wait', '--idempotency-key', `${w}-loud`, warned], asDistrict());
+		expect(loud.code, loud.stderr).toBe(0);
+		expect(loud.stdout).toMatch(/^quiet-warned\.csv:2:9: warning formula-in-cell: /m);
+		const ok = await runCli(['--quiet', 'upload', '--wait', warned], asDistrict());
+		expect(ok.code, ok.stderr).toBe(0);
+		expect(ok.stdout + ok.stderr).toBe('');
+		const p = uniquePrefix('QB');
+		const bad = path.join(dir, 'quiet-bad.csv');
+		writeFileSync(bad, csv(BASIC_HEADER, [[`${p}-1`, '340', BLH_COUNTY, '2024-13-01', '', '', '50', '']]));
+		const r = await runCli(['--quiet', 'upload', '--wait', bad], asDistrict());
+		expect(r.code).toBe(2);
+		expect(r.stdout).toMatch(/^quiet-bad\.csv:2:4: error /m);
+	});
+});
