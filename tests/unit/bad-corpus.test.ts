@@ -2,7 +2,6 @@
 // checker (checkFile) and must give exactly the findings its manifest lists — and never throw.
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
-import { deflateRawSync } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
 import type { Finding } from '../../src/lib/schema/findings';
 import { checkFile, type CheckEvent, type CheckStats } from '../../src/lib/server/ingest/check-file';

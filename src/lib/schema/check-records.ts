@@ -17,6 +17,7 @@ import {
 	isPracticeRecordColumn,
 	PRACTICE_RECORD_COLUMNS,
 	REQUIRED_COLUMNS,
+	type ColumnKind,
 	type PracticeRecordColumn,
 	type PracticeRecordV1
 } from './practice-record';
@@ -62,8 +63,6 @@ const q = (c: string) => c;
 const quoted = (v: unknown) => `"${display(v)}"`;
 /** A cell value for a message; personal columns never show theirs. */
 const shownValue = (col: string, v: unknown) => (isPracticeRecordColumn(col) && COLUMN_INFO[col].personal ? `"${REDACTED}"` : quoted(v));
-
-type Cell = { kind: 'absent' } | { kind: 'value'; value: unknown };
 
 interface Problem {
 	code: string;
@@ -113,28 +112,31 @@ function looksLikeFormula(s: string): boolean {
 	return FORMULA_START.test(s);
 }
 
+function wrongTypeProblem(col: string, kind: ColumnKind, detail: string): Problem {
+	return {
+		code: 'wrong-type',
+		severity: 'error',
+		message: `${q(col)} ${detail}`,
+		rule: { rule: 'type', expected: kind === 'integer' ? 'integer' : kind === 'number' ? 'number' : kind === 'date' ? 'date' : 'text' }
+	};
+}
+
 /** The checks of one cell, by column kind. Returns the parsed value or a problem. */
 function readCell(col: PracticeRecordColumn, raw: unknown): { value: unknown; problem?: Problem; warnings?: Problem[] } {
 	const info = COLUMN_INFO[col];
 	if (typeof raw === 'string' && raw.trim() === '') return { value: null };
 	if (raw === null || raw === undefined) return { value: null };
 
-	const wrongType = (detail: string): Problem => ({
-		code: 'wrong-type',
-		severity: 'error',
-		message: `${q(col)} ${detail}`,
-		rule: {
-			rule: 'type',
-			expected: info.kind === 'integer' ? 'integer' : info.kind === 'number' ? 'number' : info.kind === 'date' ? 'date' : 'text'
-		}
-	});
-
 	if (typeof raw === 'object' && !(raw instanceof Date))
-		return { value: null, problem: wrongType(`holds ${typeName(raw)}; send a single value.`) };
+		return { value: null, problem: wrongTypeProblem(col, info.kind, `holds ${typeName(raw)}; send a single value.`) };
 	if (typeof raw === 'boolean')
 		return {
 			value: null,
-			problem: wrongType(`holds true/false; expected ${info.kind === 'number' || info.kind === 'integer' ? 'a number' : 'text'}.`)
+			problem: wrongTypeProblem(
+				col,
+				info.kind,
+				`holds true/false; expected ${info.kind === 'number' || info.kind === 'integer' ? 'a number' : 'text'}.`
+			)
 		};
 
 	if (typeof raw === 'string') {
@@ -170,13 +172,15 @@ function readCell(col: PracticeRecordColumn, raw: unknown): { value: unknown; pr
 			if (raw instanceof Date)
 				return {
 					value: null,
-					problem: wrongType(
+					problem: wrongTypeProblem(
+						col,
+						info.kind,
 						`holds a date, but it is ${info.kind === 'text' ? 'text' : 'a code'}. Format the column as Text in the spreadsheet and retype the value.`
 					)
 				};
 			let s: string;
 			if (typeof raw === 'number') {
-				if (!Number.isFinite(raw)) return { value: null, problem: wrongType('is not a usable value.') };
+				if (!Number.isFinite(raw)) return { value: null, problem: wrongTypeProblem(col, info.kind, 'is not a usable value.') };
 				s = String(raw);
 			} else s = String(raw).trim();
 			if (looksLikeFormula(s)) {
@@ -214,7 +218,9 @@ function readCell(col: PracticeRecordColumn, raw: unknown): { value: unknown; pr
 			if (typeof raw === 'number')
 				return {
 					value: null,
-					problem: wrongType(
+					problem: wrongTypeProblem(
+						col,
+						info.kind,
 						`holds the number ${shownValue(col, raw)}, not a date. In a spreadsheet, format the cell as a date, or type the date as YYYY-MM-DD.`
 					)
 				};
@@ -235,7 +241,7 @@ function readCell(col: PracticeRecordColumn, raw: unknown): { value: unknown; pr
 		}
 		case 'number':
 		case 'integer': {
-			if (raw instanceof Date) return { value: null, problem: wrongType('holds a date; expected a number.') };
+			if (raw instanceof Date) return { value: null, problem: wrongTypeProblem(col, info.kind, 'holds a date; expected a number.') };
 			if (typeof raw === 'number') {
 				if (!Number.isFinite(raw))
 					return {
@@ -480,188 +486,186 @@ function editDistance(a: string, b: string, cap: number): number {
 
 const EARLIEST_PLAUSIBLE_INSTALL = '1970-01-01';
 
-export function createRecordChecker(ctx: CheckContext): RecordChecker {
-	const stateCounties = ctx.stateCounties ?? (ctx.countyShapes ? countyCodes(ctx.countyShapes) : null);
-	const shapeById = new Map((ctx.countyShapes?.features ?? []).map((f) => [String(f.id), f]));
-	const servedList = ctx.districtCounties ? [...ctx.districtCounties].sort() : null;
+const COLUMN_INDEX: Readonly<Record<PracticeRecordColumn, number>> = Object.fromEntries(
+	PRACTICE_RECORD_COLUMNS.map((c, i) => [c, i])
+) as Record<PracticeRecordColumn, number>;
+const COLUMN_SCHEMAS = PRACTICE_RECORD_COLUMNS.map((c) => columnSchema(c));
+const DETAIL_COLUMNS = PRACTICE_RECORD_COLUMNS.filter((c) => COLUMN_INFO[c].practices !== null);
+/** Every column null, in order: copied per row so all records share one object shape. */
+const EMPTY_RECORD: Readonly<Record<string, unknown>> = Object.fromEntries(PRACTICE_RECORD_COLUMNS.map((c) => [c, null]));
 
-	// Header mode (CSV/XLSX): where each schema column sits in the file.
-	let headerMode = false;
-	let headerFailed = false;
-	const position = new Map<PracticeRecordColumn, { key: string; number: number }>();
-	// Keyed mode (JSON): unknown properties already reported.
-	const unknownSeen = new Set<string>();
-	const firstRowOfId = new Map<string, number>();
+/**
+ * The checker's state for one file. A class rather than closures: row() runs for every row of large
+ * uploads, and per-row closures cost measurably (see `npm run bench -- check`).
+ */
+class Checker implements RecordChecker {
+	private readonly stateCounties: ReadonlySet<string> | null;
+	private readonly shapeById: Map<string, CountyShapes['features'][number]>;
+	private readonly servedList: string[] | null;
+	/** Header mode (CSV/XLSX): the header name and 1-based position of each schema column, by column index. */
+	private headerMode = false;
+	private headerFailed = false;
+	private readonly keyAt: Array<string | undefined> = [];
+	private readonly numberAt: Array<number | undefined> = [];
+	/** Keyed mode (JSON): unknown properties already reported. */
+	private readonly unknownSeen = new Set<string>();
+	private readonly firstRowOfId = new Map<string, number>();
+	// The row being checked.
+	private rowNo = 0;
+	private findings: Finding[] = [];
+	private raws: unknown[] = [];
 
-	function finding(
+	constructor(private readonly ctx: CheckContext) {
+		this.stateCounties = ctx.stateCounties ?? (ctx.countyShapes ? countyCodes(ctx.countyShapes) : null);
+		this.shapeById = new Map((ctx.countyShapes?.features ?? []).map((f) => [String(f.id), f]));
+		this.servedList = ctx.districtCounties ? [...ctx.districtCounties].sort() : null;
+		this.header = this.header.bind(this);
+		this.row = this.row.bind(this);
+	}
+
+	private finding(
 		p: Problem,
 		row: number | null,
 		col: PracticeRecordColumn | null,
 		raw: unknown,
-		opts: { columnName?: string; columnNumber?: number | null } = {}
+		columnName?: string,
+		columnNumberOverride?: number | null
 	): Finding {
-		const pos = col ? position.get(col) : undefined;
-		const columnNumber = opts.columnNumber !== undefined ? opts.columnNumber : (pos?.number ?? null);
+		const columnNumber =
+			columnNumberOverride !== undefined ? columnNumberOverride : col ? (this.numberAt[COLUMN_INDEX[col]] ?? null) : null;
 		const personal = col ? COLUMN_INFO[col].personal : false;
 		const v = display(raw);
 		return {
 			code: p.code,
 			severity: p.severity,
 			row,
-			column: opts.columnName ?? col,
+			column: columnName ?? col,
 			column_number: columnNumber,
-			cell: columnNumber !== null && row !== null && headerMode ? cellRef(columnNumber, row) : null,
+			cell: columnNumber !== null && row !== null && this.headerMode ? cellRef(columnNumber, row) : null,
 			value: v === null ? null : personal ? REDACTED : v,
 			rule: p.rule,
 			message: p.message
 		};
 	}
 
-	function header(columns: string[], headerRow = 1): Finding[] {
-		headerMode = true;
-		position.clear();
+	/** Adds a finding about a column of the current row (its value as sent). */
+	private err(
+		col: PracticeRecordColumn,
+		code: string,
+		message: string,
+		rule: Record<string, unknown>,
+		severity: FindingSeverity = 'error'
+	): void {
+		this.findings.push(this.finding({ code, severity, message, rule }, this.rowNo, col, this.raws[COLUMN_INDEX[col]] ?? null));
+	}
+
+	header(columns: string[], headerRow = 1): Finding[] {
+		this.headerMode = true;
+		this.keyAt.length = 0;
+		this.numberAt.length = 0;
 		const out: Finding[] = [];
-		const fileLevel = (f: Finding, columnNumber: number | null): Finding => ({
-			...f,
-			row: null,
-			cell: columnNumber !== null ? cellRef(columnNumber, headerRow) : null
-		});
+		const fileLevel = (f: Finding, n: number | null): Finding => ({ ...f, row: null, cell: n !== null ? cellRef(n, headerRow) : null });
 		columns.forEach((raw, i) => {
 			const n = i + 1;
 			const name = raw.trim();
 			const key = normaliseHeader(raw);
 			if (name === '') {
-				out.push(
-					fileLevel(
-						finding(
-							{
-								code: 'blank-column-header',
-								severity: 'warning',
-								message: `Column ${cellRef(n, headerRow).replace(/\d+$/, '')} has no header; its cells are ignored.`,
-								rule: { rule: 'header' }
-							},
-							null,
-							null,
-							null,
-							{ columnName: '', columnNumber: n }
-						),
-						n
-					)
-				);
+				const p: Problem = {
+					code: 'blank-column-header',
+					severity: 'warning',
+					message: `Column ${cellRef(n, headerRow).replace(/\d+$/, '')} has no header; its cells are ignored.`,
+					rule: { rule: 'header' }
+				};
+				out.push(fileLevel(this.finding(p, null, null, null, '', n), n));
 				return;
 			}
 			if (isPracticeRecordColumn(key)) {
-				const first = position.get(key);
-				if (first) {
-					out.push(
-						fileLevel(
-							finding(
-								{
-									code: 'duplicate-column',
-									severity: 'error',
-									message: `The column ${q(key)} appears twice (columns ${first.number} and ${n}). Keep one of them.`,
-									rule: { rule: 'unique-header', first_column: first.number }
-								},
-								null,
-								key,
-								name,
-								{ columnNumber: n }
-							),
-							n
-						)
-					);
+				const first = this.numberAt[COLUMN_INDEX[key]];
+				if (first !== undefined) {
+					const p: Problem = {
+						code: 'duplicate-column',
+						severity: 'error',
+						message: `The column ${q(key)} appears twice (columns ${first} and ${n}). Keep one of them.`,
+						rule: { rule: 'unique-header', first_column: first }
+					};
+					out.push(fileLevel(this.finding(p, null, key, name, undefined, n), n));
 					return;
 				}
-				position.set(key, { key: raw, number: n });
+				this.keyAt[COLUMN_INDEX[key]] = raw;
+				this.numberAt[COLUMN_INDEX[key]] = n;
 				return;
 			}
 			const hint = suggestion(name);
-			out.push(
-				fileLevel(
-					finding(
-						{
-							code: 'unknown-column',
-							severity: 'warning',
-							message: `The column ${q(name)} is not part of the record schema; its values are ignored.${hint ? ` Did you mean ${q(hint)}?` : ''}`,
-							rule: { rule: 'known-columns', ...(hint ? { suggestion: hint } : {}) }
-						},
-						null,
-						null,
-						name,
-						{ columnName: name, columnNumber: n }
-					),
-					n
-				)
-			);
+			const p: Problem = {
+				code: 'unknown-column',
+				severity: 'warning',
+				message: `The column ${q(name)} is not part of the record schema; its values are ignored.${hint ? ` Did you mean ${q(hint)}?` : ''}`,
+				rule: { rule: 'known-columns', ...(hint ? { suggestion: hint } : {}) }
+			};
+			out.push(fileLevel(this.finding(p, null, null, name, name, n), n));
 		});
 		for (const c of REQUIRED_COLUMNS) {
-			if (!position.has(c))
-				out.push(
-					finding(
-						{
-							code: 'missing-column',
-							severity: 'error',
-							message: `The file has no ${q(c)} column. It is required; add it to the header row (see the template).`,
-							rule: { rule: 'required-column' }
-						},
-						null,
-						c,
-						null,
-						{ columnNumber: null }
-					)
-				);
+			if (this.numberAt[COLUMN_INDEX[c]] === undefined) {
+				const p: Problem = {
+					code: 'missing-column',
+					severity: 'error',
+					message: `The file has no ${q(c)} column. It is required; add it to the header row (see the template).`,
+					rule: { rule: 'required-column' }
+				};
+				out.push(this.finding(p, null, c, null, undefined, null));
+			}
 		}
-		headerFailed = out.some((f) => f.severity === 'error');
+		this.headerFailed = out.some((f) => f.severity === 'error');
 		return out;
 	}
 
-	function row(values: Record<string, unknown>, rowNo: number): RowResult {
+	row(values: Record<string, unknown>, rowNo: number): RowResult {
+		const ctx = this.ctx;
 		const findings: Finding[] = [];
-		const cells = new Map<PracticeRecordColumn, Cell>();
+		const raws: unknown[] = new Array(PRACTICE_RECORD_COLUMNS.length);
+		this.rowNo = rowNo;
+		this.findings = findings;
+		this.raws = raws;
 
-		if (headerMode) {
-			for (const [col, pos] of position) {
-				cells.set(col, Object.hasOwn(values, pos.key) ? { kind: 'value', value: values[pos.key] } : { kind: 'absent' });
+		if (this.headerMode) {
+			for (let i = 0; i < raws.length; i++) {
+				const key = this.keyAt[i];
+				if (key !== undefined && Object.hasOwn(values, key)) raws[i] = values[key];
 			}
 		} else {
-			for (const [key, value] of Object.entries(values)) {
+			for (const key in values) {
+				if (!Object.hasOwn(values, key)) continue;
 				const col = normaliseHeader(key);
 				if (isPracticeRecordColumn(col)) {
-					if (!cells.has(col) || cells.get(col)?.kind === 'absent') cells.set(col, { kind: 'value', value });
+					const i = COLUMN_INDEX[col];
+					if (raws[i] === undefined) raws[i] = values[key];
 					continue;
 				}
-				if (!unknownSeen.has(key)) {
-					unknownSeen.add(key);
+				if (!this.unknownSeen.has(key)) {
+					this.unknownSeen.add(key);
 					const hint = suggestion(key);
-					findings.push({
-						...finding(
-							{
-								code: 'unknown-column',
-								severity: 'warning',
-								message: `The property ${q(key)} (first seen in row ${rowNo}) is not part of the record schema; it is ignored.${hint ? ` Did you mean ${q(hint)}?` : ''}`,
-								rule: { rule: 'known-columns', first_row: rowNo, ...(hint ? { suggestion: hint } : {}) }
-							},
-							null,
-							null,
-							null,
-							{ columnName: key, columnNumber: null }
-						)
-					});
+					const p: Problem = {
+						code: 'unknown-column',
+						severity: 'warning',
+						message: `The property ${q(key)} (first seen in row ${rowNo}) is not part of the record schema; it is ignored.${hint ? ` Did you mean ${q(hint)}?` : ''}`,
+						rule: { rule: 'known-columns', first_row: rowNo, ...(hint ? { suggestion: hint } : {}) }
+					};
+					findings.push(this.finding(p, null, null, null, key, null));
 				}
 			}
 		}
 
 		// 1. Each cell on its own: kind, then the zod rule of the column.
-		const rec: Record<string, unknown> = {};
-		const bad = new Set<PracticeRecordColumn>();
-		for (const col of PRACTICE_RECORD_COLUMNS) {
-			const cell = cells.get(col);
-			const raw = cell?.kind === 'value' ? cell.value : undefined;
+		const rec: Record<string, unknown> = { ...EMPTY_RECORD };
+		const bad: boolean[] = new Array(raws.length).fill(false);
+		for (let i = 0; i < PRACTICE_RECORD_COLUMNS.length; i++) {
+			const col = PRACTICE_RECORD_COLUMNS[i];
+			const raw = raws[i];
 			const r = readCell(col, raw);
-			for (const w of r.warnings ?? []) findings.push(finding(w, rowNo, col, raw));
+			if (r.warnings) for (const w of r.warnings) findings.push(this.finding(w, rowNo, col, raw));
 			if (r.problem) {
-				findings.push(finding(r.problem, rowNo, col, raw));
-				bad.add(col);
+				findings.push(this.finding(r.problem, rowNo, col, raw));
+				bad[i] = true;
 				rec[col] = null;
 				continue;
 			}
@@ -669,52 +673,44 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 				rec[col] = null;
 				continue;
 			}
-			const parsed = columnSchema(col).safeParse(r.value);
+			const parsed = COLUMN_SCHEMAS[i].safeParse(r.value);
 			if (!parsed.success) {
-				findings.push(finding(zodProblem(col, r.value, parsed.error.issues[0]), rowNo, col, raw));
-				bad.add(col);
+				findings.push(this.finding(zodProblem(col, r.value, parsed.error.issues[0]), rowNo, col, raw));
+				bad[i] = true;
 				rec[col] = null;
 				continue;
 			}
 			rec[col] = parsed.data;
 		}
-		const raws = (col: PracticeRecordColumn) => {
-			const c = cells.get(col);
-			return c?.kind === 'value' ? c.value : null;
-		};
-		const err = (
-			col: PracticeRecordColumn | null,
-			code: string,
-			message: string,
-			rule: Record<string, unknown>,
-			severity: FindingSeverity = 'error'
-		) => findings.push(finding({ code, severity, message, rule }, rowNo, col, col ? raws(col) : null));
+		const isBad = (col: PracticeRecordColumn) => bad[COLUMN_INDEX[col]];
 
 		// 2. Required values.
 		for (const col of REQUIRED_COLUMNS) {
-			if (rec[col] === null && !bad.has(col)) {
-				if (headerMode && !position.has(col)) continue; // reported once as missing-column
-				err(col, 'required-missing', `${q(col)} is empty. Every row needs ${COLUMN_INFO[col].title.toLowerCase()}.`, { rule: 'required' });
+			if (rec[col] === null && !isBad(col)) {
+				if (this.headerMode && this.numberAt[COLUMN_INDEX[col]] === undefined) continue; // reported once as missing-column
+				this.err(col, 'required-missing', `${q(col)} is empty. Every row needs ${COLUMN_INFO[col].title.toLowerCase()}.`, {
+					rule: 'required'
+				});
 			}
 		}
-		if (rec.status === null && !bad.has('status')) rec.status = 'installed';
+		if (rec.status === null && !isBad('status')) rec.status = 'installed';
 
 		// 3. Required per practice (the catalog's credited basis) and detail columns of other practices.
 		const practice = typeof rec.practice_code === 'string' ? practiceByCode(rec.practice_code) : undefined;
 		if (practice) {
 			const basis = practice.credited_basis;
-			if (rec[basis] === null && !bad.has(basis)) {
-				err(
+			if (rec[basis] === null && !isBad(basis)) {
+				this.err(
 					basis,
 					'required-for-practice',
 					`${q(basis)} is empty, but practice ${practice.code} (${practice.name}) is credited on ${basis === 'extent_acres' ? 'the acres it treats' : 'the drainage area it treats'}, so it is required.`,
 					{ rule: 'required-for-practice', practice: practice.code, category: practice.category }
 				);
 			}
-			for (const col of PRACTICE_RECORD_COLUMNS) {
-				const only = COLUMN_INFO[col].practices;
-				if (only && rec[col] !== null && !only.includes(practice.code)) {
-					err(
+			for (const col of DETAIL_COLUMNS) {
+				const only = COLUMN_INFO[col].practices!;
+				if (rec[col] !== null && !only.includes(practice.code)) {
+					this.err(
 						col,
 						'not-applicable',
 						`${q(col)} applies to practice ${only.join(', ')} only; it is kept but not used for practice ${practice.code}.`,
@@ -728,8 +724,8 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 		// 4. Status and dates.
 		const installed = rec.installed_on as string | null;
 		const withdrawn = rec.withdrawn_on as string | null;
-		if (rec.status === 'withdrawn' && withdrawn === null && !bad.has('withdrawn_on')) {
-			err(
+		if (rec.status === 'withdrawn' && withdrawn === null && !isBad('withdrawn_on')) {
+			this.err(
 				'withdrawn_on',
 				'withdrawn-date-missing',
 				`The status is withdrawn, so ${q('withdrawn_on')} must give the date it went out of service.`,
@@ -740,7 +736,7 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 			);
 		}
 		if (rec.status === 'installed' && withdrawn !== null) {
-			err(
+			this.err(
 				'withdrawn_on',
 				'withdrawn-date-without-status',
 				`${q('withdrawn_on')} is filled in but the status is not withdrawn. Set ${q('status')} to withdrawn, or clear ${q('withdrawn_on')}.`,
@@ -748,7 +744,7 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 			);
 		}
 		if (installed !== null && withdrawn !== null && withdrawn < installed) {
-			err(
+			this.err(
 				'withdrawn_on',
 				'withdrawn-before-installed',
 				`${q('withdrawn_on')} (${withdrawn}) is before ${q('installed_on')} (${installed}).`,
@@ -758,21 +754,10 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 				}
 			);
 		}
-		for (const col of ['installed_on', 'withdrawn_on'] as const) {
-			const d = rec[col] as string | null;
-			if (d !== null && d > ctx.today)
-				err(
-					col,
-					'date-in-future',
-					`${q(col)} is ${d}, which is in the future (today is ${ctx.today}). Send a practice once it is installed.`,
-					{
-						rule: 'not-after',
-						date: ctx.today
-					}
-				);
-		}
+		if (installed !== null && installed > ctx.today) this.future('installed_on', installed);
+		if (withdrawn !== null && withdrawn > ctx.today) this.future('withdrawn_on', withdrawn);
 		if (installed !== null && installed < EARLIEST_PLAUSIBLE_INSTALL)
-			err(
+			this.err(
 				'installed_on',
 				'date-implausible',
 				`${q('installed_on')} is ${installed}, earlier than ${EARLIEST_PLAUSIBLE_INSTALL}. Check the year (a flag for review, by Runnel's own rule of thumb).`,
@@ -784,15 +769,20 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 		const total = rec.cost_total_usd as number | null;
 		const share = rec.cost_share_usd as number | null;
 		if (total !== null && share !== null && share > total)
-			err('cost_share_usd', 'share-exceeds-total', `${q('cost_share_usd')} (${share}) is more than ${q('cost_total_usd')} (${total}).`, {
-				rule: 'not-more-than',
-				column: 'cost_total_usd'
-			});
+			this.err(
+				'cost_share_usd',
+				'share-exceeds-total',
+				`${q('cost_share_usd')} (${share}) is more than ${q('cost_total_usd')} (${total}).`,
+				{
+					rule: 'not-more-than',
+					column: 'cost_total_usd'
+				}
+			);
 		const lat = rec.latitude as number | null;
 		const lon = rec.longitude as number | null;
-		if ((lat === null) !== (lon === null) && !bad.has('latitude') && !bad.has('longitude')) {
+		if ((lat === null) !== (lon === null) && !isBad('latitude') && !isBad('longitude')) {
 			const missing = lat === null ? 'latitude' : 'longitude';
-			err(missing, 'coordinates-incomplete', `Send latitude and longitude together: ${q(missing)} is empty.`, {
+			this.err(missing, 'coordinates-incomplete', `Send latitude and longitude together: ${q(missing)} is empty.`, {
 				rule: 'together',
 				columns: ['latitude', 'longitude']
 			});
@@ -803,26 +793,23 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 		let countyOk = false;
 		if (county !== null) {
 			if (!county.startsWith(ctx.stateFips)) {
-				err(
+				this.err(
 					'county_fips',
 					'county-wrong-state',
 					`${q('county_fips')} is ${county}, a county outside this hub's state (its codes start with ${ctx.stateFips}).`,
-					{
-						rule: 'state',
-						state_fips: ctx.stateFips
-					}
+					{ rule: 'state', state_fips: ctx.stateFips }
 				);
-			} else if (stateCounties && !stateCounties.has(county)) {
-				err('county_fips', 'county-unknown', `${q('county_fips')} is ${county}, which is not a county code of this state.`, {
+			} else if (this.stateCounties && !this.stateCounties.has(county)) {
+				this.err('county_fips', 'county-unknown', `${q('county_fips')} is ${county}, which is not a county code of this state.`, {
 					rule: 'county-list',
 					state_fips: ctx.stateFips
 				});
 			} else if (ctx.districtCounties && !ctx.districtCounties.has(county)) {
-				err(
+				this.err(
 					'county_fips',
 					'county-not-served',
-					`${q('county_fips')} is ${county}, a county your district does not serve (your counties: ${servedList?.join(', ')}).`,
-					{ rule: 'served-counties', expected: servedList }
+					`${q('county_fips')} is ${county}, a county your district does not serve (your counties: ${this.servedList?.join(', ')}).`,
+					{ rule: 'served-counties', expected: this.servedList }
 				);
 			} else countyOk = true;
 		}
@@ -830,18 +817,15 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 		// 7. Duplicate local id inside this file.
 		const localId = rec.local_id as string | null;
 		if (localId !== null) {
-			const first = firstRowOfId.get(localId);
+			const first = this.firstRowOfId.get(localId);
 			if (first !== undefined)
-				err(
+				this.err(
 					'local_id',
 					'duplicate-local-id',
 					`${q('local_id')} ${localId} was already used in row ${first} of this file. Each record may appear once per file.`,
-					{
-						rule: 'unique',
-						first_row: first
-					}
+					{ rule: 'unique', first_row: first }
 				);
-			else firstRowOfId.set(localId, rowNo);
+			else this.firstRowOfId.set(localId, rowNo);
 		}
 
 		// 8. Plausibility warnings.
@@ -849,7 +833,7 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 			const b = acreageBounds(practice.code);
 			const acres = rec[practice.credited_basis] as number | null;
 			if (b && acres !== null && (acres < b.low || acres > b.high))
-				err(
+				this.err(
 					practice.credited_basis,
 					'acres-implausible',
 					`${q(practice.credited_basis)} is ${acres} acres, ${acres < b.low ? 'unusually small' : 'unusually large'} for practice ${practice.code} (we flag values outside ${b.low}–${b.high} acres for review). Check the number and the unit.`,
@@ -858,45 +842,56 @@ export function createRecordChecker(ctx: CheckContext): RecordChecker {
 				);
 		}
 		if (countyOk && county !== null && lat !== null && lon !== null) {
-			const shape = shapeById.get(county);
+			const shape = this.shapeById.get(county);
 			if (shape && !geoContains(shape, [lon, lat]))
-				findings.push(
-					finding(
-						{
-							code: 'point-outside-county',
-							severity: 'warning',
-							message: `The latitude/longitude point is not inside county ${county}${shape.properties?.name ? ` (${shape.properties.name})` : ''}. Check the coordinates (latitude first, longitude negative in the western hemisphere) and the county.`,
-							rule: { rule: 'point-in-county', county_fips: county }
-						},
-						rowNo,
-						'latitude',
-						lat
-					)
+				this.err(
+					'latitude',
+					'point-outside-county',
+					`The latitude/longitude point is not inside county ${county}${shape.properties?.name ? ` (${shape.properties.name})` : ''}. Check the coordinates (latitude first, longitude negative in the western hemisphere) and the county.`,
+					{ rule: 'point-in-county', county_fips: county },
+					'warning'
 				);
 		}
 
-		const hasError = headerFailed || findings.some((f) => f.severity === 'error' && f.row !== null);
+		let hasError = this.headerFailed;
+		for (let i = 0; i < findings.length && !hasError; i++)
+			if (findings[i].severity === 'error' && findings[i].row !== null) hasError = true;
 		if (hasError) return { record: null, findings };
 		const record = rec as PracticeRecordV1;
 		if (ctx.designChecks) {
+			let designError = false;
 			for (const f of ctx.designChecks(record)) {
 				const col = f.column && isPracticeRecordColumn(f.column) ? f.column : null;
-				const pos = col ? position.get(col) : undefined;
-				const number = f.column_number ?? pos?.number ?? null;
+				const number = f.column_number ?? (col ? (this.numberAt[COLUMN_INDEX[col]] ?? null) : null);
+				if (f.severity === 'error') designError = true;
 				findings.push({
 					...f,
 					row: f.row ?? rowNo,
 					column_number: number,
-					cell: f.cell ?? (headerMode && number !== null ? cellRef(number, f.row ?? rowNo) : null),
+					cell: f.cell ?? (this.headerMode && number !== null ? cellRef(number, f.row ?? rowNo) : null),
 					value: col && COLUMN_INFO[col].personal && f.value !== null ? REDACTED : f.value
 				});
 			}
-			if (findings.some((f) => f.severity === 'error')) return { record: null, findings };
+			if (designError) return { record: null, findings };
 		}
 		return { record, findings };
 	}
 
-	return { header, row };
+	private future(col: 'installed_on' | 'withdrawn_on', d: string): void {
+		this.err(
+			col,
+			'date-in-future',
+			`${q(col)} is ${d}, which is in the future (today is ${this.ctx.today}). Send a practice once it is installed.`,
+			{
+				rule: 'not-after',
+				date: this.ctx.today
+			}
+		);
+	}
+}
+
+export function createRecordChecker(ctx: CheckContext): RecordChecker {
+	return new Checker(ctx);
 }
 
 // --- summaries ------------------------------------------------------------------------------------

@@ -2,7 +2,6 @@
 // file (disk, not memory) so zip-guard.ts can check the archive before any XML is parsed; the reader
 // then streams it row by row. Formulas are never evaluated: a formula cell is read as its formula
 // text (`=HYPERLINK(…)`) and the checker flags it (`formula-in-cell`).
-import ExcelJS from 'exceljs';
 import { createReadStream, createWriteStream } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import os from 'node:os';
@@ -79,6 +78,8 @@ export async function* readXlsx(input: Input, opts: ReadOptions, limits: ReadLim
 			return;
 		}
 
+		// exceljs is loaded on first use: CSV and JSON readers (and the CLI) do not pay for it.
+		const { default: ExcelJS } = await import('exceljs');
 		const stream = createReadStream(file);
 		const reader = new ExcelJS.stream.xlsx.WorkbookReader(stream, {
 			worksheets: 'emit',
