@@ -3,11 +3,12 @@
 // versions) against a raw `COPY` of the same rows into a bare table, in the same run on the same database.
 // Prints the ratios and the peak RSS. Targets (issue 4): intake/copy ≤ 3, peak RSS ≤ 300 MB,
 // re-sending the same rows (all unchanged) in less than half the first run's time.
-import { createReadStream, createWriteStream, mkdtempSync, rmSync, statSync } from 'node:fs';
+import { createReadStream, createWriteStream, mkdtempSync, readdirSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { once } from 'node:events';
 import os from 'node:os';
 import path from 'node:path';
 import { pipeline } from 'node:stream/promises';
+import { sql } from 'kysely';
 import { stringify } from 'csv-stringify/sync';
 import { from as copyFrom } from 'pg-copy-streams';
 import { startFakeS3Process } from '../lib/fake-s3';
@@ -66,6 +67,52 @@ async function writeRows(file: string, columns: readonly string[], counties: str
 
 const mb = (bytes: number) => Math.round(bytes / 1024 / 1024);
 
+const CLOCK_TICKS = 100; // Linux USER_HZ: /proc/<pid>/stat times are in 1/100 s
+
+/** CPU seconds (user + system) a process has used, from /proc (Linux). */
+function procCpu(pid: number): number {
+	try {
+		const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+		const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+		return (Number(f[11]) + Number(f[12])) / CLOCK_TICKS;
+	} catch {
+		return 0;
+	}
+}
+
+/** The PostgreSQL server processes: the postmaster's children (backends, writers, autovacuum). */
+function postgresPids(postmaster: number): number[] {
+	return readdirSync('/proc')
+		.filter((d) => /^\d+$/.test(d))
+		.map(Number)
+		.filter((pid) => {
+			try {
+				const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+				return Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[1]) === postmaster || pid === postmaster;
+			} catch {
+				return false;
+			}
+		});
+}
+
+/**
+ * CPU seconds of everything taking part: this process, the PostgreSQL server and the fake S3 server.
+ * On a busy machine wall-clock times swing with other load; CPU time measures the work itself.
+ */
+function cpuMeter(postmaster: number, s3Pid: number) {
+	const own = () => {
+		const u = process.cpuUsage();
+		return (u.user + u.system) / 1e6;
+	};
+	const total = () => own() + procCpu(s3Pid) + postgresPids(postmaster).reduce((a, p) => a + procCpu(p), 0);
+	return async <T>(fn: () => Promise<T>): Promise<{ value: T; wall: number; cpu: number }> => {
+		const c0 = total();
+		const t0 = performance.now();
+		const value = await fn();
+		return { value, wall: (performance.now() - t0) / 1000, cpu: total() - c0 };
+	};
+}
+
 export async function run(): Promise<void> {
 	const s3 = await startFakeS3Process();
 	Object.assign(process.env, s3.env);
@@ -94,16 +141,22 @@ export async function run(): Promise<void> {
 		await writeRows(file, PRACTICE_RECORD_COLUMNS, counties, codes);
 		const size = statSync(file).size;
 		console.log(`intake benchmark: ${ROWS.toLocaleString()} rows, ${mb(size)} MB CSV`);
+		const rssBefore = process.memoryUsage().rss;
+
+		const dataDir = (await sql<{ setting: string }>`select setting from pg_settings where name = 'data_directory'`.execute(getDb())).rows[0]
+			.setting;
+		const postmaster = Number(readFileSync(path.join(dataDir, 'postmaster.pid'), 'utf8').split('\n')[0]);
+		const measure = cpuMeter(postmaster, s3.pid);
 
 		// Baseline: COPY of the same file into a bare table of text columns.
 		const client = await getPool().connect();
-		let copyMs: number;
+		let copy: { wall: number; cpu: number };
 		try {
 			await client.query(`drop table if exists bench_copy`);
 			await client.query(`create table bench_copy (${PRACTICE_RECORD_COLUMNS.map((c) => `"${c}" text`).join(', ')})`);
-			const t0 = performance.now();
-			await pipeline(createReadStream(file), client.query(copyFrom(`copy bench_copy from stdin with (format csv, header true)`)));
-			copyMs = performance.now() - t0;
+			copy = await measure(() =>
+				pipeline(createReadStream(file), client.query(copyFrom(`copy bench_copy from stdin with (format csv, header true)`)))
+			);
 			await client.query(`drop table bench_copy`);
 		} finally {
 			client.release();
@@ -120,42 +173,53 @@ export async function run(): Promise<void> {
 			credentialId: 'bench',
 			expiresAt: null
 		};
-		const send = async (key: string) => {
-			const t0 = performance.now();
-			const answer = await createBatch(principal, {
-				mode: 'all',
-				format: 'csv',
-				contentType: 'text/csv',
-				districtCode: district.code,
-				sheet: null,
-				fileName: 'bench.csv',
-				idempotencyKey: key,
-				contentLength: size,
-				body: createReadStream(file)
+		const send = (key: string) =>
+			measure(async () => {
+				const answer = await createBatch(principal, {
+					mode: 'all',
+					format: 'csv',
+					contentType: 'text/csv',
+					districtCode: district.code,
+					sheet: null,
+					fileName: 'bench.csv',
+					idempotencyKey: key,
+					contentLength: size,
+					body: createReadStream(file)
+				});
+				await processBatch(answer.body.id);
+				return getDb()
+					.selectFrom('batches')
+					.select(['rows', 'accepted', 'errors', 'created', 'unchanged'])
+					.where('id', '=', answer.body.id)
+					.executeTakeFirstOrThrow();
 			});
-			await processBatch(answer.body.id);
-			const ms = performance.now() - t0;
-			const b = await getDb()
-				.selectFrom('batches')
-				.select(['rows', 'accepted', 'errors', 'created', 'unchanged'])
-				.where('id', '=', answer.body.id)
-				.executeTakeFirstOrThrow();
-			return { ms, b };
-		};
+		// BENCH_MEM=1 (with node --expose-gc): live heap every 3 s, to tell retained memory from garbage not yet collected.
+		const gc = (globalThis as { gc?: () => void }).gc;
+		const sampler = process.env.BENCH_MEM
+			? setInterval(() => {
+					gc?.();
+					const m = process.memoryUsage();
+					console.log(`  memory: RSS ${mb(m.rss)} MB, live heap ${mb(m.heapUsed)} MB`);
+				}, 3000)
+			: null;
 		const first = await send(`bench-1-${Date.now()}`);
-		if (first.b.accepted !== ROWS) throw new Error(`benchmark rows were not all accepted: ${JSON.stringify(first.b)}`);
+		if (first.value.accepted !== ROWS) throw new Error(`benchmark rows were not all accepted: ${JSON.stringify(first.value)}`);
 		const again = await send(`bench-2-${Date.now()}`);
-		if (again.b.unchanged !== ROWS) throw new Error(`re-send was not all unchanged: ${JSON.stringify(again.b)}`);
+		if (again.value.unchanged !== ROWS) throw new Error(`re-send was not all unchanged: ${JSON.stringify(again.value)}`);
 
+		if (sampler) clearInterval(sampler);
 		const peakRss = process.resourceUsage().maxRSS * 1024;
-		const ratio = first.ms / copyMs;
-		const resend = again.ms / first.ms;
-		console.log(`  COPY into a bare table:      ${(copyMs / 1000).toFixed(2)} s`);
-		console.log(`  intake (created ${first.b.created.toLocaleString()}):     ${(first.ms / 1000).toFixed(2)} s`);
-		console.log(`  re-send (unchanged ${again.b.unchanged.toLocaleString()}): ${(again.ms / 1000).toFixed(2)} s`);
-		console.log(`intake/copy ratio: ${ratio.toFixed(2)}   (target ≤ 3)`);
-		console.log(`peak RSS: ${mb(peakRss)} MB   (target ≤ 300 MB)`);
-		console.log(`re-send/first ratio: ${resend.toFixed(2)}   (target < 0.5)`);
+		const line = (label: string, m: { wall: number; cpu: number }) =>
+			console.log(`  ${label.padEnd(30)} ${m.wall.toFixed(2).padStart(7)} s wall  ${m.cpu.toFixed(2).padStart(7)} s CPU`);
+		line('COPY into a bare table', copy);
+		line(`intake (${first.value.created.toLocaleString()} created)`, first);
+		line(`re-send (${again.value.unchanged.toLocaleString()} unchanged)`, again);
+		console.log(`  load average during the run: ${os.loadavg()[0].toFixed(1)} on ${os.cpus().length} CPUs`);
+		console.log(`intake/copy ratio: ${(first.wall / copy.wall).toFixed(2)} wall, ${(first.cpu / copy.cpu).toFixed(2)} CPU   (target ≤ 3)`);
+		console.log(`peak RSS: ${mb(peakRss)} MB   (target ≤ 300 MB; ${mb(rssBefore)} MB before the first batch)`);
+		console.log(
+			`re-send/first ratio: ${(again.wall / first.wall).toFixed(2)} wall, ${(again.cpu / first.cpu).toFixed(2)} CPU   (target < 0.5)`
+		);
 	} finally {
 		await stopBoss();
 		await closeObjectStore();

@@ -8,6 +8,7 @@ import { ROOT } from './env';
 
 export interface FakeS3Process {
 	url: string;
+	pid: number;
 	env: Record<string, string>;
 	stop: () => void;
 }
@@ -31,6 +32,7 @@ export async function startFakeS3Process(): Promise<FakeS3Process> {
 	});
 	return {
 		url,
+		pid: child.pid!,
 		env: { S3_URL: url, S3_BUCKET: 'runnel', S3_ACCESS_KEY_ID: 'S3RVER', S3_SECRET_ACCESS_KEY: 'S3RVER' },
 		stop: () => {
 			child.kill('SIGTERM');

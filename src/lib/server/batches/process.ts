@@ -171,14 +171,28 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 
 	const writes = mode !== 'check';
 	let chunk: IncomingRecord[] = [];
+	// One chunk is written while the next is read and checked (the database works on its own core);
+	// at most one write is in flight, so memory stays at two chunks.
+	let inflight: Promise<void> | null = null;
 	const flushChunk = async (trx: Transaction<Database>) => {
 		if (chunk.length === 0) return;
 		const items = chunk;
 		chunk = [];
 		// `all` stops writing at the first error (the transaction will be rolled back anyway).
 		const dryRun = !writes || (mode === 'all' && tally.errors > 0) || tally.fileErrors > 0;
-		const res = await upsertRecords(trx, { districtId: batch.district_id, batchId, actor: batch.actor, dryRun }, items);
-		for (const o of res.outcomes) tally.outcomes[o]++;
+		const previous = inflight;
+		if (previous) await previous;
+		const write = upsertRecords(trx, { districtId: batch.district_id, batchId, actor: batch.actor, dryRun }, items).then((res) => {
+			for (const o of res.outcomes) tally.outcomes[o]++;
+		});
+		// Observed here so a failure is not "unhandled" while reading goes on; it is thrown at the next await.
+		write.catch(() => {});
+		inflight = write;
+	};
+	const drainWrites = async () => {
+		const last = inflight;
+		inflight = null;
+		if (last) await last;
 	};
 
 	const source = await store.get(batch.archive_key);
@@ -230,6 +244,7 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 			});
 		}
 		await flushChunk(trx);
+		await drainWrites();
 		await flushFindings();
 		await heartbeat(true);
 

@@ -48,8 +48,9 @@ type ColumnField =
 	| 'cost_share_usd'
 	| 'funding_program';
 
-export function contentHash(data: RecordData): string {
-	return createHash('sha256').update(JSON.stringify(data)).digest('hex');
+/** SHA-256 of the canonical JSON of a record (`records.content_hash`). */
+export function contentHash(canonicalJson: string): string {
+	return createHash('sha256').update(canonicalJson).digest('hex');
 }
 
 const text = (v: unknown): string | null => (v === null || v === undefined || v === '' ? null : String(v));
@@ -72,6 +73,8 @@ export async function tryLockDistrictRecords(trx: Transaction<Database>, distric
 interface Prepared {
 	localId: string;
 	data: RecordData;
+	/** The canonical JSON of `data`: hashed, and sent to the database as is. */
+	json: string;
 	hash: string;
 	status: string;
 	warnings: Finding[];
@@ -80,10 +83,12 @@ interface Prepared {
 export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertContext, items: IncomingRecord[]): Promise<UpsertResult> {
 	const prepared: Prepared[] = items.map((it) => {
 		const data = canonicalData(it.record);
+		const json = JSON.stringify(data);
 		return {
 			localId: String(data.local_id),
 			data,
-			hash: contentHash(data),
+			json,
+			hash: contentHash(json),
 			status: String(data.status ?? 'installed'),
 			warnings: it.warnings
 		};
@@ -120,40 +125,47 @@ export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertConte
 		return { outcomes, recordIds };
 	}
 
-	const versionRows: Array<{ id: string; version: number; data: RecordData; changed: string[]; warnings: Finding[] }> = [];
+	const versionRows: Array<{ id: string; version: number; warnings: Finding[] }> = [];
 
+	// Records and their versions are written by one statement per kind of change: the data-modifying
+	// CTE inserts (or updates) the records and adds their version rows, parsing each record's JSON once.
 	if (toCreate.length > 0) {
 		const col = (f: ColumnField) => toCreate.map((i) => text(prepared[i].data[f]));
 		const inserted = await sql<{ id: string; local_id: string }>`
-			insert into records (district_id, local_id, version, practice_code, county_fips, installed_on, status, withdrawn_on,
-				extent_acres, drainage_area_acres, field_id, operation_id, huc12, cost_total_usd, cost_share_usd, funding_program,
-				data, content_hash)
-			select ${ctx.districtId}, u.local_id, 1, u.practice_code, u.county_fips, u.installed_on::date, u.status, u.withdrawn_on::date,
-				u.extent_acres::numeric, u.drainage_area_acres::numeric, u.field_id, u.operation_id, u.huc12,
-				u.cost_total_usd::numeric, u.cost_share_usd::numeric, u.funding_program, u.data::jsonb, u.content_hash
-			from unnest(
-				${toCreate.map((i) => prepared[i].localId)}::text[], ${col('practice_code')}::text[], ${col('county_fips')}::text[],
-				${col('installed_on')}::text[], ${col('status').map((s) => s ?? 'installed')}::text[], ${col('withdrawn_on')}::text[],
-				${col('extent_acres')}::text[], ${col('drainage_area_acres')}::text[], ${col('field_id')}::text[], ${col('operation_id')}::text[],
-				${col('huc12')}::text[], ${col('cost_total_usd')}::text[], ${col('cost_share_usd')}::text[], ${col('funding_program')}::text[],
-				${toCreate.map((i) => JSON.stringify(prepared[i].data))}::text[], ${toCreate.map((i) => prepared[i].hash)}::text[]
-			) as u(local_id, practice_code, county_fips, installed_on, status, withdrawn_on, extent_acres, drainage_area_acres,
-				field_id, operation_id, huc12, cost_total_usd, cost_share_usd, funding_program, data, content_hash)
-			returning id::text as id, local_id`.execute(trx);
+			with u as (
+				select * from unnest(
+					${toCreate.map((i) => prepared[i].localId)}::text[], ${col('practice_code')}::text[], ${col('county_fips')}::text[],
+					${col('installed_on')}::text[], ${col('status').map((s) => s ?? 'installed')}::text[], ${col('withdrawn_on')}::text[],
+					${col('extent_acres')}::text[], ${col('drainage_area_acres')}::text[], ${col('field_id')}::text[], ${col('operation_id')}::text[],
+					${col('huc12')}::text[], ${col('cost_total_usd')}::text[], ${col('cost_share_usd')}::text[], ${col('funding_program')}::text[],
+					${toCreate.map((i) => prepared[i].json)}::text[], ${toCreate.map((i) => prepared[i].hash)}::text[],
+					${toCreate.map((i) => Object.keys(prepared[i].data).sort().join(','))}::text[]
+				) as u(local_id, practice_code, county_fips, installed_on, status, withdrawn_on, extent_acres, drainage_area_acres,
+					field_id, operation_id, huc12, cost_total_usd, cost_share_usd, funding_program, data, content_hash, changed)
+			), ins as (
+				insert into records (district_id, local_id, version, practice_code, county_fips, installed_on, status, withdrawn_on,
+					extent_acres, drainage_area_acres, field_id, operation_id, huc12, cost_total_usd, cost_share_usd, funding_program,
+					data, content_hash)
+				select ${ctx.districtId}, u.local_id, 1, u.practice_code, u.county_fips, u.installed_on::date, u.status, u.withdrawn_on::date,
+					u.extent_acres::numeric, u.drainage_area_acres::numeric, u.field_id, u.operation_id, u.huc12,
+					u.cost_total_usd::numeric, u.cost_share_usd::numeric, u.funding_program, u.data::jsonb, u.content_hash
+				from u
+				returning id, local_id, data
+			), ver as (
+				insert into record_versions (record_id, version, data, changed_fields, batch_id, actor)
+				select ins.id, 1, ins.data, string_to_array(u.changed, ','), ${ctx.batchId}::bigint, ${ctx.actor}
+				from ins join u on u.local_id = ins.local_id
+			)
+			select id::text as id, local_id from ins`.execute(trx);
 		const ids = new Map(inserted.rows.map((r) => [r.local_id, r.id]));
 		for (const i of toCreate) {
 			const id = ids.get(prepared[i].localId)!;
 			recordIds[i] = id;
-			versionRows.push({
-				id,
-				version: 1,
-				data: prepared[i].data,
-				changed: Object.keys(prepared[i].data).sort(),
-				warnings: prepared[i].warnings
-			});
+			if (prepared[i].warnings.length > 0) versionRows.push({ id, version: 1, warnings: prepared[i].warnings });
 		}
 	}
 
+	const updatedIds: string[] = [];
 	if (toUpdate.length > 0) {
 		const ids = toUpdate.map((i) => recordIds[i]!);
 		const before = await sql<{ id: string; data: RecordData }>`
@@ -161,46 +173,42 @@ export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertConte
 		const beforeData = new Map(before.rows.map((r) => [r.id, r.data]));
 		const col = (f: ColumnField) => toUpdate.map((i) => text(prepared[i].data[f]));
 		const updated = await sql<{ id: string; version: number }>`
-			update records r set
-				version = r.version + 1, practice_code = u.practice_code, county_fips = u.county_fips, installed_on = u.installed_on::date,
-				status = u.status, withdrawn_on = u.withdrawn_on::date, extent_acres = u.extent_acres::numeric,
-				drainage_area_acres = u.drainage_area_acres::numeric, field_id = u.field_id, operation_id = u.operation_id, huc12 = u.huc12,
-				cost_total_usd = u.cost_total_usd::numeric, cost_share_usd = u.cost_share_usd::numeric, funding_program = u.funding_program,
-				data = u.data::jsonb, content_hash = u.content_hash, updated_at = now()
-			from unnest(
-				${ids}::bigint[], ${col('practice_code')}::text[], ${col('county_fips')}::text[], ${col('installed_on')}::text[],
-				${col('status').map((s) => s ?? 'installed')}::text[], ${col('withdrawn_on')}::text[], ${col('extent_acres')}::text[],
-				${col('drainage_area_acres')}::text[], ${col('field_id')}::text[], ${col('operation_id')}::text[], ${col('huc12')}::text[],
-				${col('cost_total_usd')}::text[], ${col('cost_share_usd')}::text[], ${col('funding_program')}::text[],
-				${toUpdate.map((i) => JSON.stringify(prepared[i].data))}::text[], ${toUpdate.map((i) => prepared[i].hash)}::text[]
-			) as u(id, practice_code, county_fips, installed_on, status, withdrawn_on, extent_acres, drainage_area_acres,
-				field_id, operation_id, huc12, cost_total_usd, cost_share_usd, funding_program, data, content_hash)
-			where r.id = u.id
-			returning r.id::text as id, r.version`.execute(trx);
+			with u as (
+				select * from unnest(
+					${ids}::bigint[], ${col('practice_code')}::text[], ${col('county_fips')}::text[], ${col('installed_on')}::text[],
+					${col('status').map((s) => s ?? 'installed')}::text[], ${col('withdrawn_on')}::text[], ${col('extent_acres')}::text[],
+					${col('drainage_area_acres')}::text[], ${col('field_id')}::text[], ${col('operation_id')}::text[], ${col('huc12')}::text[],
+					${col('cost_total_usd')}::text[], ${col('cost_share_usd')}::text[], ${col('funding_program')}::text[],
+					${toUpdate.map((i) => prepared[i].json)}::text[], ${toUpdate.map((i) => prepared[i].hash)}::text[],
+					${toUpdate.map((i) => changedFields(beforeData.get(recordIds[i]!) ?? null, prepared[i].data).join(','))}::text[]
+				) as u(id, practice_code, county_fips, installed_on, status, withdrawn_on, extent_acres, drainage_area_acres,
+					field_id, operation_id, huc12, cost_total_usd, cost_share_usd, funding_program, data, content_hash, changed)
+			), upd as (
+				update records r set
+					version = r.version + 1, practice_code = u.practice_code, county_fips = u.county_fips, installed_on = u.installed_on::date,
+					status = u.status, withdrawn_on = u.withdrawn_on::date, extent_acres = u.extent_acres::numeric,
+					drainage_area_acres = u.drainage_area_acres::numeric, field_id = u.field_id, operation_id = u.operation_id, huc12 = u.huc12,
+					cost_total_usd = u.cost_total_usd::numeric, cost_share_usd = u.cost_share_usd::numeric, funding_program = u.funding_program,
+					data = u.data::jsonb, content_hash = u.content_hash, updated_at = now()
+				from u
+				where r.id = u.id
+				returning r.id, r.version, r.data
+			), ver as (
+				insert into record_versions (record_id, version, data, changed_fields, batch_id, actor)
+				select upd.id, upd.version, upd.data, string_to_array(u.changed, ','), ${ctx.batchId}::bigint, ${ctx.actor}
+				from upd join u on u.id = upd.id
+			)
+			select id::text as id, version from upd`.execute(trx);
 		const versions = new Map(updated.rows.map((r) => [r.id, r.version]));
 		for (const i of toUpdate) {
 			const id = recordIds[i]!;
-			versionRows.push({
-				id,
-				version: versions.get(id)!,
-				data: prepared[i].data,
-				changed: changedFields(beforeData.get(id) ?? null, prepared[i].data),
-				warnings: prepared[i].warnings
-			});
+			updatedIds.push(id);
+			versionRows.push({ id, version: versions.get(id)!, warnings: prepared[i].warnings });
 		}
 	}
 
-	// Changed field names travel as comma-joined text: unnest flattens arrays of arrays.
-	await sql`
-		insert into record_versions (record_id, version, data, changed_fields, batch_id, actor)
-		select u.record_id, u.version, u.data::jsonb, string_to_array(u.changed, ','), ${ctx.batchId}::bigint, ${ctx.actor}
-		from unnest(${versionRows.map((v) => v.id)}::bigint[], ${versionRows.map((v) => v.version)}::int[],
-			${versionRows.map((v) => JSON.stringify(v.data))}::text[], ${versionRows.map((v) => v.changed.join(','))}::text[])
-			as u(record_id, version, data, changed)`.execute(trx);
-
-	// The current warnings of each written record are those of its new version.
-	const writtenIds = versionRows.map((v) => v.id);
-	await sql`delete from record_findings where record_id = any(${writtenIds}::bigint[])`.execute(trx);
+	// The current warnings of each written record are those of its new version (new records have none yet).
+	if (updatedIds.length > 0) await sql`delete from record_findings where record_id = any(${updatedIds}::bigint[])`.execute(trx);
 	const warn = versionRows.flatMap((v) => v.warnings.map((w) => ({ id: v.id, version: v.version, w })));
 	if (warn.length > 0) {
 		await sql`
@@ -212,6 +220,9 @@ export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertConte
 				as u(record_id, version, code, severity, col, value, rule, message)`.execute(trx);
 	}
 
-	await afterRecordsChanged(trx, writtenIds);
+	await afterRecordsChanged(
+		trx,
+		recordIds.filter((id, i): id is string => id !== null && outcomes[i] !== 'unchanged')
+	);
 	return { outcomes, recordIds };
 }
