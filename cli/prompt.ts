@@ -19,10 +19,11 @@ export function promptHidden(io: Io, question: string): Promise<string> {
 	const stdin = io.stdin;
 	return new Promise((resolve, reject) => {
 		let value = '';
-		io.stderr.write(question);
+		// Echo goes off before the question appears, so nothing typed after it is ever shown.
 		const wasRaw = (stdin as { isRaw?: boolean }).isRaw ?? false;
 		stdin.setRawMode?.(true);
 		stdin.resume();
+		io.stderr.write(question);
 		const done = (err: Error | null) => {
 			stdin.off('data', onData);
 			stdin.setRawMode?.(wasRaw);

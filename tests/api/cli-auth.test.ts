@@ -1,6 +1,7 @@
 // The real `runnel` command against the built app: login stores URL + token (mode 0600) and never
 // echoes the token; whoami; token and URL precedence; a wrong token exits 4 with a one-line reason;
 // a hub that is down exits 1 with a clear message after bounded retries.
+import { spawn } from 'node:child_process';
 import { readFileSync, statSync, writeFileSync, mkdtempSync } from 'node:fs';
 import http from 'node:http';
 import type { AddressInfo } from 'node:net';
@@ -8,7 +9,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DEMO_TOKENS, startApp } from '../helpers/app';
-import { freshConfigHome, runCli } from '../helpers/cli';
+import { CLI, freshConfigHome, runCli } from '../helpers/cli';
 
 let app: { origin: string; close: () => Promise<void> };
 
@@ -44,6 +45,29 @@ describe('runnel login / whoami', () => {
 		expect(w.stdout).toContain('district');
 		expect(w.stdout).toContain('token: from the config file');
 		expect(w.stdout).not.toContain(DEMO_TOKENS.district);
+	});
+
+	it('at a terminal, login asks for the token with echo off: the token never appears on the screen', async () => {
+		// A pseudo-terminal from util-linux `script`, so stdin and stderr are TTYs as for a person typing.
+		const home = freshConfigHome();
+		const child = spawn('script', ['-qec', `${process.execPath} ${CLI} login --url ${app.origin}`, '/dev/null'], {
+			env: { ...process.env, XDG_CONFIG_HOME: home, RUNNEL_TOKEN: '', RUNNEL_URL: '' }
+		});
+		let screen = '';
+		let typed = false;
+		child.stdout.on('data', (b: Buffer) => {
+			screen += b.toString();
+			if (!typed && screen.includes('API token (input hidden): ')) {
+				typed = true;
+				child.stdin.write(`${DEMO_TOKENS.district}\r`);
+			}
+		});
+		const code = await new Promise<number | null>((r) => child.on('close', r));
+		expect(code, screen).toBe(0);
+		expect(typed).toBe(true);
+		expect(screen).toContain('Logged in to');
+		expect(screen).not.toContain(DEMO_TOKENS.district);
+		expect(JSON.parse(readFileSync(path.join(home, 'runnel', 'config.json'), 'utf8')).token).toBe(DEMO_TOKENS.district);
 	});
 
 	it('login with a wrong token exits 4 and stores nothing', async () => {
