@@ -41,13 +41,15 @@ interface FileResult {
 	exit: number;
 }
 
-/** What the derived key is scoped to: `--district CODE`, else the token's own district. */
+/**
+ * What the derived key is scoped to: a district token's own district (by id, whether or not --district
+ * repeats it, so both spellings of the same upload share one key), else the --district code.
+ */
 async function districtRef(client: ApiClient, opts: UploadOptions): Promise<string> {
-	if (opts.district) return opts.district.toUpperCase();
 	const me = await client.getJson<Me>('/api/v1/me');
-	if (me.district_id === null)
-		throw new UsageError(`This token (${me.role}) is not bound to a district: pass --district CODE to say which district the file is for.`);
-	return `id${me.district_id}`;
+	if (me.district_id !== null) return `id${me.district_id}`;
+	if (opts.district) return opts.district.toUpperCase();
+	throw new UsageError(`This token (${me.role}) is not bound to a district: pass --district CODE to say which district the file is for.`);
 }
 
 function contentDisposition(name: string): string {
