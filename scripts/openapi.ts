@@ -6,7 +6,9 @@ import path from 'node:path';
 import { buildOpenApiDocument } from '../src/lib/schema/openapi';
 import { ROOT } from './lib/env';
 
-const file = path.join(ROOT, 'openapi', 'openapi.json');
+const outIndex = process.argv.indexOf('--out');
+// --out FILE: another target (the tests use it); default openapi/openapi.json.
+const file = outIndex > 0 ? path.resolve(process.argv[outIndex + 1]) : path.join(ROOT, 'openapi', 'openapi.json');
 const text = `${JSON.stringify(buildOpenApiDocument(), null, '\t')}\n`;
 
 if (process.argv.includes('--check')) {

@@ -151,6 +151,15 @@ describe('encodings', () => {
 		}
 	});
 
+	it('decodes a declared Windows-1252 charset without a warning', async () => {
+		const ev = await collect(
+			readRows(chunked(Buffer.concat([csv('a,b\n1,Caf'), Buffer.from([0xe9, 0x80]), csv('\n')])), 'csv', { encoding: 'windows-1252' })
+		);
+		expect(rows(ev)[0].values).toEqual({ a: '1', b: 'Café€' });
+		expect(ev[0]).toMatchObject({ kind: 'source', encoding: 'windows-1252' });
+		expect(findingsOf(ev)).toEqual([]);
+	});
+
 	it('keeps valid UTF-8 as UTF-8 in a file that is mostly UTF-8 with a stray Windows-1252 byte', async () => {
 		const filler = csv(Array.from({ length: 600 }, (_, i) => `${i + 10},Crème ✓\n`).join(''));
 		const bytes = Buffer.concat([csv('a,b\n1,Crème\n'), filler, csv('2,Caf'), Buffer.from([0xe9]), csv('\n')]);

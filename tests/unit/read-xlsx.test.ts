@@ -243,3 +243,15 @@ describe('zip bombs', () => {
 		if (v.ok) expect(v.entries.some((e) => e.name === 'xl/workbook.xml')).toBe(true);
 	});
 });
+
+describe('input failures', () => {
+	it('throws when the upload stream itself fails (a client hanging up), instead of blaming the workbook', async () => {
+		async function* broken(): AsyncGenerator<Uint8Array> {
+			yield Buffer.from([0x50, 0x4b, 0x03, 0x04]);
+			throw new Error('socket hang up');
+		}
+		await expect(collect(readRows(broken(), 'xlsx'))).rejects.toThrow('socket hang up');
+		await expect(collect(readRows(broken(), 'csv'))).rejects.toThrow('socket hang up');
+		await expect(collect(readRows(broken(), 'json'))).rejects.toThrow('socket hang up');
+	});
+});

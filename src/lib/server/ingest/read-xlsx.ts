@@ -55,8 +55,12 @@ export async function* readXlsx(input: Input, opts: ReadOptions, limits: ReadLim
 		sourceSent = true;
 		return [{ kind: 'source', encoding: 'utf-8', sheet }];
 	};
+	// Set once the upload is on disk: errors before that are the input stream's own (a client that hung
+	// up) and are thrown; errors after it come from the workbook's contents and become a finding.
+	let spooled = false;
 	try {
 		await pipeline(Readable.from(byteChunks(input)), createWriteStream(file));
+		spooled = true;
 		const verdict = await inspectZip(file, limits);
 		if (!verdict.ok) {
 			yield* source(null);
@@ -142,7 +146,7 @@ export async function* readXlsx(input: Input, opts: ReadOptions, limits: ReadLim
 		}
 	} catch (e) {
 		// exceljs/unzipper/sax errors on a workbook that passed the ZIP checks: the XML inside is broken.
-		if (e instanceof Error && !/ENOSPC|EACCES|EMFILE/.test(e.message)) {
+		if (spooled && e instanceof Error && !/ENOSPC|EACCES|EMFILE/.test(e.message)) {
 			yield* source(null);
 			yield {
 				kind: 'finding',
