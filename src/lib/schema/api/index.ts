@@ -2,5 +2,6 @@
 import './common';
 import './core';
 import './schema-routes';
+import './batches';
 
 export { registry } from './registry';
