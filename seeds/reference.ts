@@ -4,13 +4,16 @@ import { createRequire } from 'node:module';
 import { sql, type Kysely } from 'kysely';
 import { countiesFromTopology } from '../src/lib/domain/counties';
 import { PRACTICE_CATALOG } from '../src/lib/domain/practice-catalog';
+import { DEFAULT_METHOD } from '../src/lib/domain/reduction-method';
 import type { Database } from '../src/lib/server/db/schema';
 
 const require = createRequire(import.meta.url);
 
 export const DEFAULT_SETTINGS: Record<string, unknown> = {
 	hub_state_fips: process.env.HUB_STATE_FIPS ?? '19',
-	state_fy_start_month: 7
+	state_fy_start_month: 7,
+	small_cell_k: 3,
+	active_method_version: DEFAULT_METHOD.version
 };
 
 export async function seedReference(db: Kysely<Database>): Promise<void> {
@@ -36,6 +39,12 @@ export async function seedReference(db: Kysely<Database>): Promise<void> {
 				source_note: sql`excluded.source_note`
 			})
 		)
+		.execute();
+	// The default reduction method: stored once, never overwritten (a stored version is frozen).
+	await db
+		.insertInto('reduction_methods')
+		.values({ version: DEFAULT_METHOD.version, label: DEFAULT_METHOD.label, method: JSON.stringify(DEFAULT_METHOD), created_by: 'seed' })
+		.onConflict((oc) => oc.column('version').doNothing())
 		.execute();
 	// Settings: insert defaults, never overwrite what an admin changed.
 	for (const [key, value] of Object.entries(DEFAULT_SETTINGS)) {

@@ -11,7 +11,9 @@ export const NAV: NavItem[] = [
 	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
 	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
 	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
-	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] }
+	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] },
+	{ href: '/dashboard', label: 'Dashboard', roles: ['admin', 'manager', 'district'] },
+	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

@@ -17,6 +17,11 @@ export function decide(rule: Access, principal: Principal | null): Decision {
 		case 'scope':
 			if (!principal) return { ok: false, reason: 'unauthenticated' };
 			return principal.scopes.includes(rule.scope) ? { ok: true } : { ok: false, reason: 'insufficient_scope', scope: rule.scope };
+		case 'any-scope':
+			if (!principal) return { ok: false, reason: 'unauthenticated' };
+			return rule.scopes.some((s) => principal.scopes.includes(s))
+				? { ok: true }
+				: { ok: false, reason: 'insufficient_scope', scope: rule.scopes.join(' ') };
 		case 'roles':
 			if (!principal) return { ok: false, reason: 'unauthenticated' };
 			return rule.roles.includes(principal.role) ? { ok: true } : { ok: false, reason: 'forbidden_role' };

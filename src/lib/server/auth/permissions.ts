@@ -6,7 +6,12 @@
 // enforced in the queries (a district principal always filters by its own district).
 import type { Role, Scope } from '$lib/domain/scopes';
 
-export type Access = { kind: 'public' } | { kind: 'signed-in' } | { kind: 'scope'; scope: Scope } | { kind: 'roles'; roles: Role[] };
+export type Access =
+	| { kind: 'public' }
+	| { kind: 'signed-in' }
+	| { kind: 'scope'; scope: Scope }
+	| { kind: 'any-scope'; scopes: Scope[] }
+	| { kind: 'roles'; roles: Role[] };
 
 export type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE';
 export type RouteRules = Partial<Record<Method, Access>>;
@@ -15,6 +20,8 @@ const publicAccess: Access = { kind: 'public' };
 const signedIn: Access = { kind: 'signed-in' };
 const scope = (s: Scope): Access => ({ kind: 'scope', scope: s });
 const roles = (...r: Role[]): Access => ({ kind: 'roles', roles: r });
+/** Any one of these scopes will do. */
+const anyScope = (...s: Scope[]): Access => ({ kind: 'any-scope', scopes: s });
 
 export const PERMISSIONS: Record<string, RouteRules> = {
 	// --- pages ---
@@ -24,6 +31,9 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/records': { GET: roles('district', 'manager', 'admin') },
 	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
 	'/schema': { GET: publicAccess },
+	'/dashboard': { GET: roles('admin', 'manager', 'district') },
+	'/methods': { GET: signedIn, POST: roles('admin') },
+	'/methods/new': { GET: roles('admin'), POST: roles('admin') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -39,11 +49,15 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/schema/practice-record.csv': { GET: publicAccess },
 	'/api/v1/schema/practice-record.xlsx': { GET: publicAccess },
 	'/api/docs': { GET: publicAccess },
-	'/api/docs/[asset]': { GET: publicAccess }
+	'/api/docs/[asset]': { GET: publicAccess },
+	'/api/v1/rollups': { GET: scope('rollups:read') },
+	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: scope('admin') },
+	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
+	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: scope('admin') }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
-export const access = { public: publicAccess, signedIn, scope, roles };
+export const access = { public: publicAccess, signedIn, scope, anyScope, roles };
 
 export function ruleFor(routeId: string, method: string): Access | undefined {
 	const rules = PERMISSIONS[routeId];

@@ -1,0 +1,389 @@
+// Keeps the stored estimates (`record_estimates`) and the summary cells (`rollup_cells`) current.
+//
+// - `refreshRecords(trx, ids)` runs inside every write transaction that changes practice records (through
+//   `afterRecordsChanged`): it re-estimates the changed records and the records stacked on the same fields
+//   under the active method, then recomputes only the summary cells those records touched before or after
+//   the change — the (district, FY basis, basis, FY) keys of their old and new footprints. Other method
+//   versions are marked stale and rebuilt when someone asks for them.
+// - `rebuildMethod(db, version)` recomputes one method version from all records, in chunks (estimates by
+//   record-id ranges, cells by groups of districts), for a method just made active, a method asked for
+//   without a current summary, or a changed state FY start month.
+//
+// Every write takes the same transaction-level advisory lock, so a batch commit and a rebuild chunk never
+// interleave on the same rows. Everything is set-based: one query loads a chunk of records, one writes
+// its estimates (unnest) and returns the keys touched, one loads the facts of those districts, the cells
+// are summed in memory (rollup-cells.ts, exact integer sums) and written back with one unnest per chunk.
+import { sql, type Kysely, type Transaction } from 'kysely';
+import type { Database } from '../db/schema';
+import { recordFacts, type FactRecord, type RecordFact } from '$lib/domain/rollup-facts';
+import { aggregateCells, summaryKeyId, type CellFact, type CellRow, type SummaryKey } from '$lib/domain/rollup-cells';
+import type { ReductionMethod } from '$lib/domain/reduction-method';
+import { activeMethodVersion, loadMethod } from './method-source';
+import { stateFyStartMonth } from './settings';
+
+type Db = Kysely<Database> | Transaction<Database>;
+
+/** Advisory lock shared by every writer of rollup data ('RNRL'). */
+export const ROLLUP_LOCK_KEY = 0x524e524c;
+/** Rows per INSERT when writing estimates and cells. */
+export const CHUNK = 5000;
+
+export async function lockRollups(trx: Transaction<Database>): Promise<void> {
+	await sql`select pg_advisory_xact_lock(${ROLLUP_LOCK_KEY})`.execute(trx);
+	// The planner cannot see how many FYs generate_series yields per record and guesses 1,000, which makes
+	// it compile these short queries with JIT (seconds) and plan tiny sorts to disk; tell it otherwise.
+	await sql`set local jit = off`.execute(trx);
+	await sql`set local work_mem = '64MB'`.execute(trx);
+}
+
+// --- loading and writing per-record facts --------------------------------------------------------------
+
+const FACT_RECORD_COLUMNS = sql`r.id::text as id, r.district_id, r.practice_code, r.county_fips, r.installed_on, r.status, r.withdrawn_on,
+	r.extent_acres, r.drainage_area_acres, r.field_id, r.operation_id, r.huc12, r.cost_total_usd, r.cost_share_usd,
+	p.lifespan_years as catalog_lifespan_years`;
+
+/** The records with these ids plus every record now or formerly on the same (district, field). */
+export async function loadFactRecords(db: Db, ids: readonly string[], methodVersion: string): Promise<FactRecord[]> {
+	if (ids.length === 0) return [];
+	const { rows } = await sql<FactRecord>`
+		with target as (select unnest(${[...ids]}::bigint[]) as id),
+		fields as (
+			select r.district_id, r.field_id from records r join target t on t.id = r.id where r.field_id is not null
+			union
+			select e.district_id, e.field_id from record_estimates e join target t on t.id = e.record_id
+			where e.method_version = ${methodVersion} and e.field_id is not null
+		),
+		wanted as (
+			select id from target
+			union
+			select r.id from records r join fields f on f.district_id = r.district_id and f.field_id = r.field_id
+		)
+		select ${FACT_RECORD_COLUMNS}
+		from records r join wanted w on w.id = r.id join practices p on p.code = r.practice_code
+		order by r.id`.execute(db);
+	return rows;
+}
+
+/** Every record of these districts (field-mates are always in the same district). */
+export async function loadDistrictRecords(db: Db, districtIds: readonly number[]): Promise<FactRecord[]> {
+	if (districtIds.length === 0) return [];
+	const { rows } = await sql<FactRecord>`
+		select ${FACT_RECORD_COLUMNS} from records r join practices p on p.code = r.practice_code
+		where r.district_id = any(${[...districtIds]}::int[])`.execute(db);
+	return rows;
+}
+
+/** The (district, FY basis, basis, FY) keys a footprint counts in, from record_estimates-shaped rows `t`. */
+function footprintKeysOf(t: string) {
+	return sql.raw(`
+		select distinct ${t}.district_id, v.fy_basis, v.basis, g.fy
+		from ${t}
+		cross join lateral (values
+			('state', 'installed', ${t}.state_fy_installed, ${t}.state_fy_installed),
+			('state', 'in_service', ${t}.state_fy_first, ${t}.state_fy_last),
+			('federal', 'installed', ${t}.federal_fy_installed, ${t}.federal_fy_installed),
+			('federal', 'in_service', ${t}.federal_fy_first, ${t}.federal_fy_last)
+		) as v(fy_basis, basis, fy_from, fy_to)
+		cross join lateral rollup_fy_span(v.fy_from, v.fy_to) as g(fy)`);
+}
+
+function upsertFacts(part: readonly RecordFact[]) {
+	const col = <T>(f: (x: RecordFact) => T): T[] => part.map(f);
+	return sql`
+		insert into record_estimates (record_id, method_version, counted, reason, credited_acres,
+			n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high,
+			district_id, county_fips, huc8, practice_code, field_id, operation_key, cost_usd, cost_share_usd,
+			state_fy_start_month, state_fy_installed, state_fy_first, state_fy_last,
+			federal_fy_installed, federal_fy_first, federal_fy_last, computed_at)
+		select u.*, now() from unnest(
+			${col((x) => x.record_id)}::bigint[], ${col((x) => x.method_version)}::text[], ${col((x) => x.counted)}::boolean[],
+			${col((x) => x.reason)}::text[], ${col((x) => x.credited_acres)}::numeric[],
+			${col((x) => x.n_lb.mean)}::numeric[], ${col((x) => x.n_lb.low)}::numeric[], ${col((x) => x.n_lb.high)}::numeric[],
+			${col((x) => x.p_lb.mean)}::numeric[], ${col((x) => x.p_lb.low)}::numeric[], ${col((x) => x.p_lb.high)}::numeric[],
+			${col((x) => x.district_id)}::int[], ${col((x) => x.county_fips)}::char(5)[], ${col((x) => x.huc8)}::char(8)[],
+			${col((x) => x.practice_code)}::text[], ${col((x) => x.field_id)}::text[], ${col((x) => x.operation_key)}::text[],
+			${col((x) => x.cost_usd)}::numeric[], ${col((x) => x.cost_share_usd)}::numeric[],
+			${col((x) => x.state_fy_start_month)}::smallint[], ${col((x) => x.state.installed)}::int[],
+			${col((x) => x.state.first)}::int[], ${col((x) => x.state.last)}::int[],
+			${col((x) => x.federal.installed)}::int[], ${col((x) => x.federal.first)}::int[], ${col((x) => x.federal.last)}::int[]
+		) as u
+		on conflict (record_id, method_version) do update set
+			counted = excluded.counted, reason = excluded.reason, credited_acres = excluded.credited_acres,
+			n_lb_mean = excluded.n_lb_mean, n_lb_low = excluded.n_lb_low, n_lb_high = excluded.n_lb_high,
+			p_lb_mean = excluded.p_lb_mean, p_lb_low = excluded.p_lb_low, p_lb_high = excluded.p_lb_high,
+			district_id = excluded.district_id, county_fips = excluded.county_fips, huc8 = excluded.huc8,
+			practice_code = excluded.practice_code, field_id = excluded.field_id, operation_key = excluded.operation_key,
+			cost_usd = excluded.cost_usd, cost_share_usd = excluded.cost_share_usd,
+			state_fy_start_month = excluded.state_fy_start_month, state_fy_installed = excluded.state_fy_installed,
+			state_fy_first = excluded.state_fy_first, state_fy_last = excluded.state_fy_last,
+			federal_fy_installed = excluded.federal_fy_installed, federal_fy_first = excluded.federal_fy_first,
+			federal_fy_last = excluded.federal_fy_last, computed_at = excluded.computed_at`;
+}
+
+/** Upserts facts (no keys returned; a full rebuild recomputes whole districts). */
+export async function writeFacts(db: Db, facts: readonly RecordFact[]): Promise<void> {
+	for (let i = 0; i < facts.length; i += CHUNK) await upsertFacts(facts.slice(i, i + CHUNK)).execute(db);
+}
+
+/**
+ * Upserts facts and returns the summary keys their old footprints (read in the same statement, before the
+ * write) and new footprints count in — the cells a refresh must recompute.
+ */
+export async function writeFactsWithKeys(db: Db, facts: readonly RecordFact[]): Promise<CellKey[]> {
+	const keys: CellKey[] = [];
+	for (let i = 0; i < facts.length; i += CHUNK) {
+		const part = facts.slice(i, i + CHUNK);
+		const { rows } = await sql<CellKey>`
+			with old as (
+				select e.* from record_estimates e
+				where e.method_version = ${part[0].method_version} and e.record_id = any(${part.map((x) => x.record_id)}::bigint[])
+			),
+			old_keys as (${footprintKeysOf('old')}),
+			written as (${upsertFacts(part)} returning *),
+			new_keys as (${footprintKeysOf('written')})
+			select * from old_keys union select * from new_keys`.execute(db);
+		keys.push(...rows);
+	}
+	return dedupeKeys(keys);
+}
+
+// --- summary cells ---------------------------------------------------------------------------------------
+
+/** A summary key whose cells (every geography and practice level) are recomputed together. */
+export type CellKey = SummaryKey;
+
+/** Facts of these districts under a method, amounts scaled to integers (see rollup-cells.ts). */
+export async function loadCellFacts(db: Db, methodVersion: string, districtIds: readonly number[]): Promise<CellFact[]> {
+	if (districtIds.length === 0) return [];
+	const { rows } = await sql<{
+		district_id: number;
+		county_fips: string;
+		huc8: string | null;
+		practice_code: string;
+		operation_key: string;
+		s_i: number;
+		s_f: number | null;
+		s_l: number | null;
+		f_i: number;
+		f_f: number | null;
+		f_l: number | null;
+		acres: number;
+		cost: number;
+		cost_share: number;
+		n_mean: number;
+		n_low: number;
+		n_high: number;
+		p_mean: number;
+		p_low: number;
+		p_high: number;
+	}>`
+		select district_id, county_fips, huc8, practice_code, operation_key,
+			state_fy_installed as s_i, state_fy_first as s_f, state_fy_last as s_l,
+			federal_fy_installed as f_i, federal_fy_first as f_f, federal_fy_last as f_l,
+			(credited_acres * 10000)::int8::float8 as acres, (coalesce(cost_usd, 0) * 100)::int8::float8 as cost,
+			(coalesce(cost_share_usd, 0) * 100)::int8::float8 as cost_share,
+			(n_lb_mean * 1000000)::int8::float8 as n_mean, (n_lb_low * 1000000)::int8::float8 as n_low, (n_lb_high * 1000000)::int8::float8 as n_high,
+			(p_lb_mean * 1000000)::int8::float8 as p_mean, (p_lb_low * 1000000)::int8::float8 as p_low, (p_lb_high * 1000000)::int8::float8 as p_high
+		from record_estimates where method_version = ${methodVersion} and district_id = any(${[...districtIds]}::int[])`.execute(db);
+	return rows.map((r) => ({
+		district_id: r.district_id,
+		county_fips: r.county_fips,
+		huc8: r.huc8,
+		practice_code: r.practice_code,
+		operation_key: r.operation_key,
+		state: { installed: r.s_i, first: r.s_f, last: r.s_l },
+		federal: { installed: r.f_i, first: r.f_f, last: r.f_l },
+		acres: r.acres,
+		cost: r.cost,
+		cost_share: r.cost_share,
+		n_mean: r.n_mean,
+		n_low: r.n_low,
+		n_high: r.n_high,
+		p_mean: r.p_mean,
+		p_low: r.p_low,
+		p_high: r.p_high
+	}));
+}
+
+/** Writes cells (integer amounts turned back into dollars, acres and pounds). */
+async function insertCells(db: Db, methodVersion: string, cells: readonly CellRow[]): Promise<void> {
+	for (let i = 0; i < cells.length; i += CHUNK) {
+		const part = cells.slice(i, i + CHUNK);
+		const col = <T>(f: (c: CellRow) => T): T[] => part.map(f);
+		await sql`
+			insert into rollup_cells (method_version, fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations,
+				credited_acres, cost_usd, cost_share_usd, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high)
+			select ${methodVersion}, u.fy_basis, u.basis, u.geo_level, u.fy, u.district_id, u.geo, u.practice_code, u.practices, u.operations,
+				u.acres / 10000.0, u.cost / 100.0, u.cost_share / 100.0, u.n_mean / 1000000.0, u.n_low / 1000000.0, u.n_high / 1000000.0,
+				u.p_mean / 1000000.0, u.p_low / 1000000.0, u.p_high / 1000000.0
+			from unnest(${col((c) => c.fy_basis)}::text[], ${col((c) => c.basis)}::text[], ${col((c) => c.geo_level)}::text[],
+				${col((c) => c.fy)}::int[], ${col((c) => c.district_id)}::int[], ${col((c) => c.geo)}::text[], ${col((c) => c.practice_code)}::text[],
+				${col((c) => c.practices)}::int[], ${col((c) => c.operations)}::int[], ${col((c) => c.acres)}::int8[], ${col((c) => c.cost)}::int8[],
+				${col((c) => c.cost_share)}::int8[], ${col((c) => c.n_mean)}::int8[], ${col((c) => c.n_low)}::int8[], ${col((c) => c.n_high)}::int8[],
+				${col((c) => c.p_mean)}::int8[], ${col((c) => c.p_low)}::int8[], ${col((c) => c.p_high)}::int8[])
+				as u(fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations, acres, cost, cost_share,
+					n_mean, n_low, n_high, p_mean, p_low, p_high)`.execute(db);
+	}
+}
+
+/** Recomputes the cells of these keys from the stored facts of their districts (delete, then insert). */
+export async function recomputeCells(db: Db, methodVersion: string, keys: readonly CellKey[]): Promise<void> {
+	if (keys.length === 0) return;
+	const d = keys.map((k) => k.district_id);
+	await sql`
+		delete from rollup_cells c
+		using unnest(${d}::int[], ${keys.map((k) => k.fy_basis)}::text[], ${keys.map((k) => k.basis)}::text[], ${keys.map((k) => k.fy)}::int[])
+			as a(district_id, fy_basis, basis, fy)
+		where c.method_version = ${methodVersion} and c.district_id = a.district_id and c.fy_basis = a.fy_basis
+			and c.basis = a.basis and c.fy = a.fy`.execute(db);
+	const facts = await loadCellFacts(db, methodVersion, [...new Set(d)]);
+	await insertCells(db, methodVersion, aggregateCells(facts, new Set(keys.map(summaryKeyId))));
+}
+
+/** Recomputes every cell of these districts (used by a full rebuild). */
+export async function recomputeDistrictCells(db: Db, methodVersion: string, districtIds: readonly number[]): Promise<void> {
+	if (districtIds.length === 0) return;
+	await sql`delete from rollup_cells where method_version = ${methodVersion} and district_id = any(${[...districtIds]}::int[])`.execute(db);
+	await insertCells(db, methodVersion, aggregateCells(await loadCellFacts(db, methodVersion, districtIds)));
+}
+
+// --- refresh state ---------------------------------------------------------------------------------------
+
+export type RefreshStatus = Database['rollup_refresh']['status'];
+
+export async function summaryState(db: Db, methodVersion: string) {
+	return db.selectFrom('rollup_refresh').selectAll().where('method_version', '=', methodVersion).executeTakeFirst();
+}
+
+/** Whether a method's stored summary can answer now (built, and with the current state FY start month). */
+export function isCurrent(state: { status: RefreshStatus; state_fy_start_month: number | null } | undefined, startMonth: number): boolean {
+	return !!state && state.status === 'ready' && state.state_fy_start_month === startMonth;
+}
+
+/** Asks for a rebuild of a method version (no-op while one is running with the current start month). */
+export async function requestRebuild(db: Db, methodVersion: string): Promise<void> {
+	await sql`
+		insert into rollup_refresh (method_version, status, requested_at, updated_at)
+		values (${methodVersion}, 'pending', now(), now())
+		on conflict (method_version) do update set status = 'pending', requested_at = now(), updated_at = now(), error = null
+		where rollup_refresh.status <> 'running' and rollup_refresh.status <> 'pending'`.execute(db);
+}
+
+/** Marks every other method's summary stale: records changed and only the active method followed. */
+async function markOthersStale(db: Db, activeVersion: string): Promise<void> {
+	await db
+		.updateTable('rollup_refresh')
+		.set({ status: 'stale', updated_at: sql`now()` as unknown as Date })
+		.where('method_version', '<>', activeVersion)
+		.where('status', 'in', ['ready', 'running'])
+		.execute();
+}
+
+// --- incremental refresh -----------------------------------------------------------------------------------
+
+/**
+ * Re-estimates the changed records and their field-mates under the active method and recomputes the cells
+ * they touch. Called inside the write transaction, after the records are written.
+ */
+export async function refreshRecords(trx: Transaction<Database>, recordIds: readonly string[]): Promise<void> {
+	const ids = [...new Set(recordIds.map(String))];
+	if (ids.length === 0) return;
+	await lockRollups(trx);
+	const version = await activeMethodVersion(trx);
+	if (!version) return;
+	await markOthersStale(trx, version);
+	const startMonth = await stateFyStartMonth(trx);
+	const state = await summaryState(trx, version);
+	// Without a summary built on the current start month, a full rebuild is due anyway: ask for it.
+	if (!state || state.state_fy_start_month !== startMonth || (state.status !== 'ready' && state.status !== 'running')) {
+		await requestRebuild(trx, version);
+		return;
+	}
+	const method = await loadMethod(trx, version);
+	if (!method) return;
+	await refreshFacts(trx, method, ids, startMonth, true);
+}
+
+/** Re-estimates records (with field-mates) and, when `cells`, recomputes the cells their old and new footprints touch. */
+async function refreshFacts(db: Db, method: ReductionMethod, ids: readonly string[], startMonth: number, cells: boolean): Promise<number> {
+	const records = await loadFactRecords(db, ids, method.version);
+	const facts = recordFacts(records, method, startMonth);
+	if (!cells) await writeFacts(db, facts);
+	else await recomputeCells(db, method.version, await writeFactsWithKeys(db, facts));
+	return records.length;
+}
+
+function dedupeKeys(keys: readonly CellKey[]): CellKey[] {
+	const seen = new Map<string, CellKey>();
+	for (const k of keys) seen.set(`${k.district_id}|${k.fy_basis}|${k.basis}|${k.fy}`, k);
+	return [...seen.values()];
+}
+
+// --- full rebuild ------------------------------------------------------------------------------------------
+
+export interface RebuildProgress {
+	/** Records re-estimated so far, with their districts' cells. */
+	done: number;
+	total: number;
+}
+
+/** Records per rebuild transaction (whole districts are kept together). */
+const REBUILD_RECORDS = 25_000;
+
+/**
+ * Rebuilds one method version's estimates and cells from all records, a few whole districts per transaction
+ * (estimates, then those districts' cells, atomically). Marks it `running` with progress, then `ready` —
+ * unless records changed meanwhile while another method was active (then it stays `stale`).
+ * Returns false when the method version does not exist.
+ */
+export async function rebuildMethod(db: Kysely<Database>, version: string, onProgress?: (p: RebuildProgress) => void): Promise<boolean> {
+	const method = await loadMethod(db, version);
+	if (!method) return false;
+	const startMonth = await stateFyStartMonth(db);
+	const { rows: sizes } = await sql<{ district_id: number; n: number }>`
+		select district_id, sum(n)::int as n from (
+			select district_id, count(*) as n from records group by district_id
+			union all select district_id, 0 from rollup_cells where method_version = ${version} group by district_id
+		) t group by district_id order by district_id`.execute(db);
+	const total = sizes.reduce((a, d) => a + d.n, 0);
+	await sql`
+		insert into rollup_refresh (method_version, status, state_fy_start_month, phase, done, total, started_at, finished_at, error, updated_at)
+		values (${version}, 'running', ${startMonth}, 'records', 0, ${total}, now(), null, null, now())
+		on conflict (method_version) do update set status = 'running', state_fy_start_month = excluded.state_fy_start_month,
+			phase = 'records', done = 0, total = excluded.total, started_at = now(), finished_at = null, error = null, updated_at = now()`.execute(db);
+	try {
+		let done = 0;
+		for (let i = 0; i < sizes.length;) {
+			const part: number[] = [];
+			let n = 0;
+			while (i < sizes.length && (part.length === 0 || n + sizes[i].n <= REBUILD_RECORDS)) {
+				part.push(sizes[i].district_id);
+				n += sizes[i].n;
+				i++;
+			}
+			await db.transaction().execute(async (trx) => {
+				await lockRollups(trx);
+				await writeFacts(trx, recordFacts(await loadDistrictRecords(trx, part), method, startMonth));
+				await recomputeDistrictCells(trx, version, part);
+			});
+			done += n;
+			await db
+				.updateTable('rollup_refresh')
+				.set({ done, updated_at: sql`now()` as unknown as Date })
+				.where('method_version', '=', version)
+				.execute();
+			onProgress?.({ done, total });
+		}
+		await sql`
+			update rollup_refresh set status = 'ready', phase = null, finished_at = now(), updated_at = now()
+			where method_version = ${version} and status = 'running'`.execute(db);
+		return true;
+	} catch (e) {
+		await db
+			.updateTable('rollup_refresh')
+			.set({ status: 'failed', error: e instanceof Error ? e.message : String(e), updated_at: sql`now()` as unknown as Date })
+			.where('method_version', '=', version)
+			.execute();
+		throw e;
+	}
+}

@@ -1,0 +1,165 @@
+// Summary cells from record facts, checked against a plain reference: every (fact, FY) listed at each of the
+// six levels, then grouped. Random facts (fast-check) plus a worked example.
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import { aggregateCells, countedIn, keysOf, summaryKeyId, type CellFact, type CellRow } from '$lib/domain/rollup-cells';
+
+function reference(facts: CellFact[]): CellRow[] {
+	const groups = new Map<string, { row: CellRow; ops: Set<string> }>();
+	for (const f of facts) {
+		for (const [fy_basis, basis, fy] of countedIn(f)) {
+			const levels: [CellRow['geo_level'], string, string][] = [
+				['county', f.county_fips, f.practice_code],
+				['county', f.county_fips, '*'],
+				['huc8', f.huc8 ?? '', f.practice_code],
+				['huc8', f.huc8 ?? '', '*'],
+				['district', '', f.practice_code],
+				['district', '', '*']
+			];
+			for (const [geo_level, geo, practice_code] of levels) {
+				const id = [f.district_id, fy_basis, basis, fy, geo_level, geo, practice_code].join('|');
+				let g = groups.get(id);
+				if (!g) {
+					g = {
+						row: {
+							fy_basis,
+							basis,
+							geo_level,
+							fy,
+							district_id: f.district_id,
+							geo,
+							practice_code,
+							practices: 0,
+							operations: 0,
+							acres: 0,
+							cost: 0,
+							cost_share: 0,
+							n_mean: 0,
+							n_low: 0,
+							n_high: 0,
+							p_mean: 0,
+							p_low: 0,
+							p_high: 0
+						},
+						ops: new Set()
+					};
+					groups.set(id, g);
+				}
+				g.row.practices += 1;
+				for (const k of ['acres', 'cost', 'cost_share', 'n_mean', 'n_low', 'n_high', 'p_mean', 'p_low', 'p_high'] as const)
+					g.row[k] += f[k];
+				g.ops.add(f.operation_key);
+			}
+		}
+	}
+	return [...groups.values()].map((g) => ({ ...g.row, operations: g.ops.size }));
+}
+
+const rowId = (r: CellRow) => `${r.district_id}|${r.fy_basis}|${r.basis}|${r.fy}|${r.geo_level}|${r.geo}|${r.practice_code}`;
+const sortRows = (rows: CellRow[]) => [...rows].sort((a, b) => (rowId(a) < rowId(b) ? -1 : rowId(a) > rowId(b) ? 1 : 0));
+
+const fact = fc
+	.record({
+		district_id: fc.constantFrom(1, 2),
+		county_fips: fc.constantFrom('19001', '19003'),
+		huc8: fc.constantFrom('07080105', '07100006', null),
+		practice_code: fc.constantFrom('605', '340', '554'),
+		operation_key: fc.constantFrom('a', 'b', 'c', ''),
+		installed: fc.integer({ min: 2018, max: 2024 }),
+		life: fc.integer({ min: 0, max: 5 }),
+		withdrawnBefore: fc.boolean(),
+		amounts: fc.array(fc.integer({ min: 0, max: 10_000_000 }), { minLength: 9, maxLength: 9 })
+	})
+	.map((r): CellFact => ({
+		district_id: r.district_id,
+		county_fips: r.county_fips,
+		huc8: r.huc8,
+		practice_code: r.practice_code,
+		operation_key: r.operation_key,
+		state: { installed: r.installed, first: r.withdrawnBefore ? null : r.installed, last: r.withdrawnBefore ? null : r.installed + r.life },
+		federal: { installed: r.installed - (r.life % 2), first: r.installed - (r.life % 2), last: r.installed + r.life },
+		acres: r.amounts[0],
+		cost: r.amounts[1],
+		cost_share: r.amounts[2],
+		n_mean: r.amounts[3],
+		n_low: r.amounts[4],
+		n_high: r.amounts[5],
+		p_mean: r.amounts[6],
+		p_low: r.amounts[7],
+		p_high: r.amounts[8]
+	}));
+
+describe('summary cells', () => {
+	it('equal the plain reference for random facts', () => {
+		fc.assert(
+			fc.property(fc.array(fact, { maxLength: 40 }), (facts) => {
+				expect(sortRows(aggregateCells(facts))).toEqual(sortRows(reference(facts)));
+			}),
+			{ numRuns: 120 }
+		);
+	}, 60_000);
+
+	it('restricted to some keys, equal the full result on those keys', () => {
+		fc.assert(
+			fc.property(fc.array(fact, { minLength: 1, maxLength: 30 }), fc.nat(), (facts, pick) => {
+				const keys = keysOf(facts[pick % facts.length]);
+				const only = new Set(keys.map(summaryKeyId));
+				const inKeys = (r: CellRow) => only.has(summaryKeyId(r));
+				expect(sortRows(aggregateCells(facts, only))).toEqual(sortRows(aggregateCells(facts).filter(inKeys)));
+			}),
+			{ numRuns: 80 }
+		);
+	}, 60_000);
+
+	it('a worked example: two bioreactors of one farm and a cover crop of another in one county and FY', () => {
+		const base = {
+			district_id: 1,
+			county_fips: '19169',
+			huc8: '07080105',
+			cost_share: 0,
+			n_low: 0,
+			n_high: 0,
+			p_mean: 0,
+			p_low: 0,
+			p_high: 0
+		};
+		const one = { installed: 2025, first: 2025, last: 2025 };
+		const facts: CellFact[] = [
+			{
+				...base,
+				practice_code: '605',
+				operation_key: 'farm-1',
+				state: one,
+				federal: one,
+				acres: 500_000,
+				cost: 1_200_000,
+				n_mean: 215_000_000
+			},
+			{
+				...base,
+				practice_code: '605',
+				operation_key: 'farm-1',
+				state: one,
+				federal: one,
+				acres: 400_000,
+				cost: 900_000,
+				n_mean: 172_000_000
+			},
+			{ ...base, practice_code: '340', operation_key: 'farm-2', state: one, federal: one, acres: 800_000, cost: 240_000, n_mean: 1_000_000 }
+		];
+		const cells = aggregateCells(facts).filter((c) => c.fy_basis === 'state' && c.basis === 'installed');
+		const get = (level: string, geo: string, practice: string) =>
+			cells.find((c) => c.geo_level === level && c.geo === geo && c.practice_code === practice)!;
+		expect(get('county', '19169', '605')).toMatchObject({
+			practices: 2,
+			operations: 1,
+			acres: 900_000,
+			cost: 2_100_000,
+			n_mean: 387_000_000
+		});
+		expect(get('county', '19169', '*')).toMatchObject({ practices: 3, operations: 2, acres: 1_700_000 });
+		expect(get('district', '', '*')).toMatchObject({ practices: 3, operations: 2, n_mean: 388_000_000 });
+		expect(get('huc8', '07080105', '340')).toMatchObject({ practices: 1, operations: 1 });
+		expect(cells).toHaveLength(9); // county, HUC-8 and district levels, each × (605, 340, all practices)
+	});
+});
