@@ -65,7 +65,7 @@ async function serverFindings(body: Buffer, format: string, fileName: string): P
 			'content-type': CONTENT_TYPES[format],
 			'content-disposition': `attachment; filename="${fileName}"`
 		},
-		body
+		body: new Uint8Array(body)
 	});
 	const answer = (await res.json()) as { id: string };
 	expect(res.status, JSON.stringify(answer)).toBe(202);
