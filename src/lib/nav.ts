@@ -9,19 +9,18 @@ export interface NavItem {
 
 export const NAV: NavItem[] = [
 	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
+	{ href: '/dashboard', label: 'Dashboard', roles: ['admin', 'manager', 'district'] },
+	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
+	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
 	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] },
-	{ href: '/admin/oauth-clients', label: 'OAuth clients', roles: ['admin'] },
-	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] },
-	// accounts (admin); everyone's own account page is linked from the header, beside their name
+	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] },
+	// administration; everyone's own account page is linked from the header, beside their name
 	{ href: '/admin/users', label: 'Users', roles: ['admin'] },
 	{ href: '/admin/districts', label: 'Districts', roles: ['admin'] },
 	{ href: '/admin/tokens', label: 'API tokens', roles: ['admin'] },
-	{ href: '/admin/audit', label: 'Audit log', roles: ['admin'] },
-	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
-	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
-	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] },
-	{ href: '/dashboard', label: 'Dashboard', roles: ['admin', 'manager', 'district'] },
-	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] }
+	{ href: '/admin/oauth-clients', label: 'OAuth clients', roles: ['admin'] },
+	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] },
+	{ href: '/admin/audit', label: 'Audit log', roles: ['admin'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

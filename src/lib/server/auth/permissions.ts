@@ -65,8 +65,6 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
 	'/schema': { GET: publicAccess },
 	'/dashboard': { GET: roles('admin', 'manager', 'district') },
-	'/methods': { GET: signedIn, POST: roles('admin') },
-	'/methods/new': { GET: roles('admin'), POST: roles('admin') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -80,7 +78,6 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/oauth/token': { POST: publicAccess },
 	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: adminOnly },
 	'/api/v1/rollups': { GET: scope('rollups:read') },
-	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: scope('admin') },
 	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
 	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: adminOnly },
 	'/api/v1/batches': { GET: scope('records:read'), POST: scope('records:write') },

@@ -310,6 +310,8 @@ export interface AuditLogTable {
 	subject_user_id: number | null;
 	ip: string | null;
 	detail: ColumnType<Record<string, unknown>, string | undefined, string>;
+}
+
 // --- rollups: stored estimates and summary cells ------------------------------------------------------
 export interface RecordEstimatesTable {
 	record_id: string;
