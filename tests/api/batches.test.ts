@@ -162,6 +162,26 @@ describe('Idempotency-Key', () => {
 		expect(b.body.id).not.toBe(a.body.id);
 	});
 
+	it('a request whose key is held by a request still in flight → 409 with Retry-After', async () => {
+		const key = randomUUID();
+		const c = await db();
+		const user = (await c.query(`select id from users where email = 'district@runnel.test'`)).rows[0].id;
+		// Play the first request: hold the key's lock as its transaction would.
+		await c.query('select pg_advisory_lock(hashtextextended($1, 0))', [`runnel:idem:user:${user}:${key}`]);
+		try {
+			const res = await sendBatch(T.district, body(), { mode: 'valid', key });
+			expect(res.status).toBe(409);
+			expect(res.body.type).toBe('urn:runnel:problem:idempotency-key-in-flight');
+			expect(res.headers['retry-after']).toBe('1');
+		} finally {
+			await c.query('select pg_advisory_unlock(hashtextextended($1, 0))', [`runnel:idem:user:${user}:${key}`]);
+		}
+		// Once the first is done (here: never claimed), the retry goes through.
+		const retry = await sendBatch(T.district, body(), { mode: 'valid', key });
+		expect(retry.status).toBe(202);
+		await waitForBatch(T.district, retry.body.id);
+	});
+
 	it('twenty concurrent requests with one key make exactly one batch', async () => {
 		const key = randomUUID();
 		const b = body();

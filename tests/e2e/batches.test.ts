@@ -89,7 +89,8 @@ describe('batches page', () => {
 		);
 		expect(await seriousA11yViolations(page)).toEqual([]);
 		await screenshot(page, 'records-withdrawn');
-		await table.locator('tbody tr a').first().click();
+		// A demo record withdrawn by the demo's corrections file: two versions, the second with its diff.
+		await table.locator('tbody tr a', { hasText: /^BLH-/ }).first().click();
 		await page.waitForURL(/\/records\/\d+$/);
 		await page.getByRole('heading', { name: 'Versions' }).waitFor();
 		await expect(
@@ -98,6 +99,9 @@ describe('batches page', () => {
 				.first()
 				.isVisible()
 		).resolves.toBe(true);
+		const diff = page.getByRole('table', { name: 'Changes in version 2' });
+		await expect(diff.getByRole('rowheader', { name: 'Status' }).isVisible()).resolves.toBe(true);
+		await expect(diff.getByRole('cell', { name: 'withdrawn' }).isVisible()).resolves.toBe(true);
 		expect(await seriousA11yViolations(page)).toEqual([]);
 		await screenshot(page, 'record-versions');
 		await page.close();

@@ -38,8 +38,8 @@ export async function sendBatch(token: string, body: Buffer | string, opts: Send
 	const key = opts.key === undefined ? (mode === 'check' ? null : randomUUID()) : opts.key;
 	if (key) req = req.set('idempotency-key', key);
 	if (opts.fileName) req = req.set('content-disposition', `attachment; filename="${opts.fileName}"`);
-	// Strings go as they are (superagent would serialise a Buffer sent as application/json).
-	return req.send(body);
+	// The bytes go as they are: superagent would otherwise JSON-encode a Buffer sent as application/json.
+	return req.serialize((d: unknown) => d as string).send(body);
 }
 
 export interface BatchBody {

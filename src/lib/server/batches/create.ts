@@ -19,8 +19,8 @@ import { receiveToTempFile } from './receive';
 import { getBatchView } from './queries';
 import { batchPath } from './views';
 
-/** How long an Idempotency-Key is remembered (the draft asks for at least 24 hours). */
-export const IDEMPOTENCY_TTL_HOURS = Number(process.env.IDEMPOTENCY_TTL_HOURS ?? 48);
+/** How long an Idempotency-Key is remembered (the draft asks for at least 24 hours; never less). */
+export const IDEMPOTENCY_TTL_HOURS = Math.max(24, Number(process.env.IDEMPOTENCY_TTL_HOURS ?? 48) || 48);
 
 export interface NewBatchInput {
 	mode: BatchMode;
