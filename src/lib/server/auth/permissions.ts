@@ -85,7 +85,7 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/batches/[id]/findings': { GET: scope('records:read') },
 	'/api/v1/records': { GET: scope('records:read') },
 	'/api/v1/records/[id]': { GET: scope('records:read') },
-	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') },
+	'/api/v1/records/[district]/[local_id]': { PUT: ownDistrict(scope('records:write'), 'district') },
 	'/api/v1/openapi.json': { GET: publicAccess },
 	'/api/v1/schema/practice-record.json': { GET: publicAccess },
 	'/api/v1/schema/practice-record.csv': { GET: publicAccess },
