@@ -34,6 +34,10 @@ export async function startApp(): Promise<{ origin: string; close: () => Promise
 	}
 	const handler = await appHandler();
 	const server = http.createServer(handler);
+	// Keep idle connections open longer than any client here keeps them: with node's 5 s default, a
+	// client reusing a keep-alive connection just as the server drops it gets ECONNRESET (seen under load).
+	server.keepAliveTimeout = 120_000;
+	server.headersTimeout = 121_000;
 	await new Promise<void>((r) => server.listen(port, '127.0.0.1', r));
 	const origin = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
 	return {

@@ -327,6 +327,25 @@ export interface RebuildProgress {
 	total: number;
 }
 
+async function rebuildDistrictsWith(db: Kysely<Database>, method: ReductionMethod, startMonth: number, districtIds: number[]) {
+	await db.transaction().execute(async (trx) => {
+		await lockRollups(trx);
+		await writeFacts(trx, recordFacts(await loadDistrictRecords(trx, districtIds), method, startMonth));
+		await recomputeDistrictCells(trx, method.version, districtIds);
+	});
+}
+
+/**
+ * Rebuilds these districts' estimates and cells from their records, in one transaction — what a full
+ * rebuild does for each group of districts (a district's records and cells depend on nothing outside it).
+ */
+export async function rebuildDistricts(db: Kysely<Database>, version: string, districtIds: number[]): Promise<boolean> {
+	const method = await loadMethod(db, version);
+	if (!method) return false;
+	await rebuildDistrictsWith(db, method, await stateFyStartMonth(db), districtIds);
+	return true;
+}
+
 /** Records per rebuild transaction (whole districts are kept together). */
 const REBUILD_RECORDS = 25_000;
 
@@ -361,11 +380,7 @@ export async function rebuildMethod(db: Kysely<Database>, version: string, onPro
 				n += sizes[i].n;
 				i++;
 			}
-			await db.transaction().execute(async (trx) => {
-				await lockRollups(trx);
-				await writeFacts(trx, recordFacts(await loadDistrictRecords(trx, part), method, startMonth));
-				await recomputeDistrictCells(trx, version, part);
-			});
+			await rebuildDistrictsWith(db, method, startMonth, part);
 			done += n;
 			await db
 				.updateTable('rollup_refresh')
