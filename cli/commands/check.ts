@@ -7,6 +7,7 @@ import { CliError, EXIT, UsageError, worstExit } from '../exit-codes';
 import { displayName, FILE_FORMATS, fileSize, resolveFormat, type FileFormat } from '../files';
 import { formatFinding } from '../findings-format';
 import type { Registry } from '../program';
+import type { ReductionMethod } from '../../src/lib/domain/reduction-method';
 import type { Me } from './whoami';
 
 interface CheckOptions {
@@ -65,6 +66,29 @@ async function districtCounties(ctx: Context, opts: CheckOptions): Promise<{ cou
 	}
 }
 
+/**
+ * The reduction method whose bioreactor screening parameters (minimum retention, design share of peak,
+ * default porosity) the design checks use: the hub's active method when a hub is configured and not
+ * --offline, else the method built into this CLI (the hub's default).
+ */
+async function screeningMethod(ctx: Context, opts: CheckOptions): Promise<{ method: ReductionMethod | undefined; from: string }> {
+	if (opts.offline) return { method: undefined, from: '--offline' };
+	const s = ctx.settings();
+	if (!s.url || !s.token) return { method: undefined, from: 'no hub configured' };
+	const client = ctx.client();
+	try {
+		const active = await client.getJson<{ version: string }>('/api/v1/settings/active-method');
+		const stored = await client.getJson<{ method: unknown }>(`/api/v1/methods/${encodeURIComponent(active.version)}`);
+		const { ReductionMethodSchema } = await import('../../src/lib/schema/reduction-method');
+		const parsed = ReductionMethodSchema.safeParse(stored.method);
+		if (!parsed.success) return { method: undefined, from: `the hub's method ${active.version} could not be read` };
+		return { method: parsed.data, from: `method ${active.version} on ${client.baseUrl}` };
+	} catch (e) {
+		if (e instanceof CliError && e.exitCode === EXIT.auth) throw e;
+		return { method: undefined, from: `the hub could not be asked (${(e as Error).message})` };
+	}
+}
+
 async function check(ctx: Context, files: string[], opts: CheckOptions): Promise<number> {
 	if (files.filter((f) => f === '-').length > 1) throw new UsageError('stdin (-) can be read only once.');
 	for (const f of files) resolveFormat(f, opts.format);
@@ -79,7 +103,10 @@ async function check(ctx: Context, files: string[], opts: CheckOptions): Promise
 	const stateFips = opts.state ?? (counties && counties.size > 0 ? [...counties][0].slice(0, 2) : (ctx.io.env.RUNNEL_STATE_FIPS ?? '19'));
 	if (!counties)
 		ctx.ui.info(`note: not checking that counties are served by your district (${from}); give --district, --counties, or log in.`);
-	const checkCtx = offlineCheckContext({ stateFips, districtCounties: counties, today: opts.today });
+	const screening = await screeningMethod(ctx, opts);
+	if (!screening.method)
+		ctx.ui.info(`note: bioreactor design screening uses the built-in default method's parameters (${screening.from}).`);
+	const checkCtx = offlineCheckContext({ stateFips, districtCounties: counties, today: opts.today, method: screening.method });
 
 	const codes: number[] = [];
 	const json = ctx.opts.json;
@@ -148,7 +175,9 @@ export function registerCheck(program: Command, r: Registry): Command {
 The reader and checker are the hub's own code, so the findings are the ones an
 upload would get. The one rule that needs the hub — "the county is served by your
 district" — uses --counties, or asks the hub when you are logged in (or
-RUNNEL_URL/RUNNEL_TOKEN are set); --offline skips it.
+RUNNEL_URL/RUNNEL_TOKEN are set); --offline skips it. Bioreactor (605) design
+screening warnings use the hub's active reduction method when the hub can be
+asked, else the default method built into this CLI.
 
 Findings go to stdout, one per line: FILE:ROW:COLUMN: SEVERITY CODE: MESSAGE
 (ROW counts the header as row 1; COLUMN is the column number). The summary

@@ -1,7 +1,7 @@
 // Writes the demo upload files committed beside this script (run again only when they must change):
 //   clean.csv     — 60 valid Bluestem Hills (BLH) records, every column of schema v1 in the header;
 //   clean.xlsx    — 40 more valid BLH records on the first sheet "Practices" (other local ids);
-//   mistakes.csv  — 17 rows with deliberate mistakes of different kinds, documented in mistakes.json.
+//   mistakes.csv  — 18 rows with deliberate mistakes of different kinds, documented in mistakes.json.
 // Usage: npx tsx seeds/demo/make-files.ts
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
@@ -168,6 +168,16 @@ async function main() {
 		severity: 'warning',
 		what: 'a spreadsheet formula in the notes (kept as plain text, flagged)'
 	});
+
+	add(
+		row({ local_id: id(18), bed_length_ft: 50, bed_width_ft: 10, bed_depth_ft: 3, main_diameter_in: 12 }, bio),
+		{
+			column: 'bed_length_ft',
+			code: 'bioreactor-treats-under-15pct',
+			severity: 'warning',
+			what: 'a bioreactor bed too small for its drained area (design screening; accepted, flagged for review)'
+		}
+	);
 
 	writeFileSync(path.join(DIR, 'mistakes.csv'), toCsv(rows));
 	writeFileSync(path.join(DIR, 'mistakes.json'), JSON.stringify({ file: 'mistakes.csv', district: 'BLH', mistakes }, null, '\t') + '\n');

@@ -8,7 +8,10 @@ import { geoCentroid, geoContains } from 'd3-geo';
 import { feature } from 'topojson-client';
 import type { Feature, FeatureCollection, Geometry } from 'geojson';
 import type { GeometryCollection, Topology } from 'topojson-specification';
+import { peakDrainageFlowCfs } from '../../src/lib/domain/drainage';
+import { corrugatedTubingRoughness, manningFullPipeCfs } from '../../src/lib/domain/manning';
 import { PRACTICE_CATALOG } from '../../src/lib/domain/practice-catalog';
+import { DEFAULT_METHOD } from '../../src/lib/domain/reduction-method';
 import { DEMO_DISTRICTS } from '../demo';
 
 const require = createRequire(import.meta.url);
@@ -161,8 +164,65 @@ function addDays(date: string, days: number): string {
 	return new Date(Date.parse(`${date}T00:00:00Z`) + days * 86_400_000).toISOString().slice(0, 10);
 }
 
+/**
+ * How a demo bioreactor is designed: `sized` beds hold the design flow at least the minimum retention time
+ * and their mains carry the peak flow, as a designer would draw them (the demo's usual case); the two
+ * deliberate mistakes give the design screening something to flag — a bed too small for its drained area,
+ * and a main too small for the peak flow.
+ */
+export type BioreactorDesign = 'sized' | 'undersized-bed' | 'undersized-main';
+
+const MAIN_SIZES_IN = [6, 8, 10, 12, 15, 18, 24, 30];
+
+/**
+ * The design fields of a demo bioreactor. Draws the same random numbers in the same order whatever the
+ * design (so the rest of the demo does not move); sizes are then checked with the screening's own domain
+ * functions and the default method's parameters, and enlarged (or, for a deliberate mistake, shrunk).
+ */
+function bioreactorDesign(r: Rand, areaAcres: number, design: BioreactorDesign): DemoRow {
+	let length = round(between(r, 60, 150), 0);
+	let width = round(between(r, 15, 30), 0);
+	let depth = round(between(r, 3.5, 5), 1);
+	const dc = pick(r, [0.375, 0.5, 0.5, 0.75]);
+	let diameter = pick(r, [6, 8, 8, 10, 12]);
+	let slopePct = round(between(r, 0.2, 1), 2);
+	const porosity = r() < 0.6 ? round(between(r, 0.66, 0.76), 2) : null;
+
+	const params = DEFAULT_METHOD.bioreactor;
+	const peak = peakDrainageFlowCfs(dc, areaAcres);
+	const neededBed = (params.design_share_of_peak * peak * params.min_retention_hours * 3600) / (porosity ?? params.default_porosity);
+	if (design === 'undersized-bed') {
+		// About 60 % of the bed the drained area needs (a bed drawn for a smaller field).
+		width = 10;
+		depth = 3;
+		length = Math.max(10, Math.floor((0.6 * neededBed) / (width * depth)));
+	} else if (length * width * depth < 1.05 * neededBed) length = Math.ceil((1.1 * neededBed) / (width * depth));
+	const carries = (d: number, s: number) => manningFullPipeCfs(d, s / 100, corrugatedTubingRoughness(d).n) >= peak;
+	if (design === 'undersized-main') {
+		diameter = 6;
+		slopePct = 0.1;
+	} else while (!carries(diameter, slopePct) && diameter < MAIN_SIZES_IN[MAIN_SIZES_IN.length - 1]) diameter = MAIN_SIZES_IN.find((d) => d > diameter)!;
+	return {
+		bed_length_ft: length,
+		bed_width_ft: width,
+		bed_depth_ft: depth,
+		drainage_coefficient_in_per_day: dc,
+		main_diameter_in: diameter,
+		main_slope_pct: slopePct,
+		media_porosity: porosity
+	};
+}
+
 /** One practice record row for a field (all schema columns present; absent values null). */
-function practiceRow(r: Rand, localId: string, code: string, installedOn: string, op: Operation, field: Field): DemoRow {
+function practiceRow(
+	r: Rand,
+	localId: string,
+	code: string,
+	installedOn: string,
+	op: Operation,
+	field: Field,
+	design: BioreactorDesign = 'sized'
+): DemoRow {
 	const practice = PRACTICE_CATALOG.find((p) => p.code === code)!;
 	const inField = practice.credited_basis === 'extent_acres';
 	const row: DemoRow = {
@@ -211,15 +271,7 @@ function practiceRow(r: Rand, localId: string, code: string, installedOn: string
 		row.cost_share_usd = round((row.cost_total_usd as number) * pick(r, [0.5, 0.6, 0.75, 0.75, 0.9]), 2);
 		row.funding_program = pick(r, PROGRAMS);
 	}
-	if (code === '605') {
-		row.bed_length_ft = round(between(r, 60, 150), 0);
-		row.bed_width_ft = round(between(r, 15, 30), 0);
-		row.bed_depth_ft = round(between(r, 3.5, 5), 1);
-		row.drainage_coefficient_in_per_day = pick(r, [0.375, 0.5, 0.5, 0.75]);
-		row.main_diameter_in = pick(r, [6, 8, 8, 10, 12]);
-		row.main_slope_pct = round(between(r, 0.2, 1), 2);
-		if (r() < 0.6) row.media_porosity = round(between(r, 0.66, 0.76), 2);
-	}
+	if (code === '605') Object.assign(row, bioreactorDesign(r, row.drainage_area_acres as number, design));
 	if (code === '340') row.cover_species = pick(r, COVER_SPECIES);
 	if (code === '554') row.control_structures = 1 + Math.floor(r() * 6);
 	return row;
@@ -263,10 +315,10 @@ export function generateDemoRecords(seed = 20161): DemoDistrictRecords[] {
 
 		const rows: DemoRow[] = [];
 		let seq = 0;
-		const add = (code: string, fy: number, op: Operation, field: Field) => {
+		const add = (code: string, fy: number, op: Operation, field: Field, design?: BioreactorDesign) => {
 			const date = dateInFiscalYear(r, fy);
 			if (!date) return;
-			rows.push(practiceRow(r, `${d.code}-${fy}-${pad(++seq, 4)}`, code, date, op, field));
+			rows.push(practiceRow(r, `${d.code}-${fy}-${pad(++seq, 4)}`, code, date, op, field, design));
 		};
 		// Every practice in every county at least once (the demo shows the whole catalog everywhere).
 		d.counties.forEach((county, ci) => {
@@ -277,12 +329,13 @@ export function generateDemoRecords(seed = 20161): DemoDistrictRecords[] {
 				add(p.code, DEMO_FISCAL_YEARS.first + ((pi + ci) % 12), op, op.fields.find((f) => f.county === county)!);
 			});
 		});
-		// Stacked practices: a bioreactor, cover crop and nutrient management on the same field.
+		// Stacked practices: a bioreactor, cover crop and nutrient management on the same field. In every
+		// district two of these bioreactors carry a design mistake the screening flags for review.
 		for (let s = 0; s < 12; s++) {
 			const op = operations[s];
 			const field = op.fields[0];
 			const fy = 2018 + (s % 9);
-			add('605', fy, op, field);
+			add('605', fy, op, field, s === 3 ? 'undersized-bed' : s === 7 ? 'undersized-main' : 'sized');
 			add('340', fy, op, field);
 			add('590', fy, op, field);
 		}

@@ -82,8 +82,12 @@ export function fySpans(r: FactRecord, lifespanYears: number, fyBasis: FyBasis, 
 	return { installed: fiscalYear(r.installed_on, fyBasis, startMonth), first: span?.from ?? null, last: span?.to ?? null };
 }
 
-/** Estimates one field group (records sharing district and field id), withdrawn records as described above. */
-function estimateGroup(group: readonly FactRecord[], method: ReductionMethod): Map<FactRecord, RecordEstimate> {
+/**
+ * Estimates one field group (records sharing district and field id), withdrawn records as described above.
+ * The stored estimates come from here; the record API uses it to explain one of them (baseline, efficiencies,
+ * stacking).
+ */
+export function estimateGroup(group: readonly FactRecord[], method: ReductionMethod): Map<FactRecord, RecordEstimate> {
 	const out = new Map<FactRecord, RecordEstimate>();
 	const active = group.filter((r) => !withdrawal(r).withdrawn);
 	const activeResults = active.length > 0 ? estimateFieldGroup(active, method) : [];

@@ -1,7 +1,15 @@
 // The intake paths: batches (uploads), their findings, and practice records.
 import { z } from 'zod';
 import { BATCH_MODES, BATCH_STATUSES, Batch, BatchFindingPage, BatchPage } from '../batch';
-import { RecordDetail, RecordPage, RecordSummary, RecordWriteResult } from '../record-api';
+import {
+	BioreactorScreening,
+	EstimateBreakdown,
+	RecordDetail,
+	RecordPage,
+	RecordSummary,
+	RecordWriteResult,
+	StoredEstimate
+} from '../record-api';
 import { problems } from './common';
 import { needsToken, registry } from './registry';
 import { practiceRecordRef } from './schema-routes';
@@ -19,10 +27,43 @@ const RecordPageSchema = registry.register(
 	'RecordPage',
 	RecordPage.extend({ data: z.array(RecordSummarySchema) }).meta({ description: 'A page of practice records.' })
 );
-const RecordDetailSchema = registry.register('RecordDetail', RecordDetail.meta({ description: 'One practice record with its versions.' }));
+const StoredEstimateSchema = registry.register(
+	'StoredEstimate',
+	StoredEstimate.meta({ description: 'A record’s estimated reduction under one method version, as stored and summed by the rollups.' })
+);
+const EstimateBreakdownSchema = registry.register(
+	'EstimateBreakdown',
+	EstimateBreakdown.meta({
+		description:
+			'How a record’s estimate is made: credited acres × baseline loss × efficiency, practices stacked on a field combined as 1 − Π(1 − eᵢ).'
+	})
+);
+const BioreactorScreeningSchema = registry.register(
+	'BioreactorScreening',
+	BioreactorScreening.meta({
+		description:
+			'Bioreactor (605) design screening, every number with its unit. Screening estimates, not a design: design and installation follow the practice standard, local codes and a licensed engineer or approved designer.'
+	})
+);
+const RecordDetailSchema = registry.register(
+	'RecordDetail',
+	RecordDetail.extend({
+		estimates: z
+			.array(StoredEstimateSchema)
+			.meta({ description: 'The stored estimate under each method version computed so far, the active one first.' }),
+		estimate: EstimateBreakdownSchema.nullable().meta({
+			description: 'How the active method’s estimate is made; null when the active method has not been computed for this record yet.'
+		}),
+		screening: BioreactorScreeningSchema.nullable().meta({
+			description: 'Bioreactor design screening under the active method, for 605 records with design fields; null otherwise.'
+		})
+	}).meta({ description: 'One practice record with its versions, estimates and (bioreactors) design screening.' })
+);
 const RecordWriteResultSchema = registry.register(
 	'RecordWriteResult',
-	RecordWriteResult.meta({ description: 'What a PUT of one record did, the record now, and its warnings.' })
+	RecordWriteResult.extend({ record: RecordDetailSchema }).meta({
+		description: 'What a PUT of one record did, the record now, and its warnings.'
+	})
 );
 
 const XLSX = 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet';
@@ -180,7 +221,14 @@ registry.registerPath({
 	method: 'get',
 	path: '/api/v1/records/{id}',
 	tags: ['Records'],
-	summary: 'One record with all its versions',
+	summary: 'One record with all its versions, its estimates and design screening',
+	description: [
+		'The current fields, the warnings the current version carries, and every version with what changed and the batch it came from.',
+		'',
+		'`estimates`: the stored estimate (N and P lb/yr mean, low, high; credited acres) under each reduction method version computed so far, the active one first. `estimate`: how the active one is made (baseline, own and credited efficiency, the practices stacked on the same field and this record’s share of their combined reduction).',
+		'',
+		'`screening`: for bioreactors (605) with design fields, the design screening under the active method (peak flow, treated share, retention, main capacity, warnings), every number with its unit. These are screening estimates, not a design.'
+	].join('\n'),
 	security: needsToken('records:read'),
 	request: { params: z.object({ id: z.string() }) },
 	responses: {

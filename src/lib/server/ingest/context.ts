@@ -1,9 +1,16 @@
 // Builds the checker's context on the server: the hub's state (settings), the district's counties,
 // the hub's today and the state's county shapes. The CLI builds the same context offline with
 // `offlineCheckContext` (no district: the served-county check is skipped).
+//
+// Both wire the bioreactor design screening (domain/bioreactor-screening.ts) into the checker's
+// `designChecks` hook, with the parameters of a reduction method: the hub's active method on the server,
+// the built-in default method (or one the CLI fetched from the hub) offline. One place builds the hook,
+// so a batch, a single-record PUT and `runnel check` screen the same way.
 import type { Kysely } from 'kysely';
 import type { CheckContext } from '../../schema/check-records';
+import { bioreactorDesignChecks } from '../../domain/bioreactor-screening';
 import { todayIn } from '../../domain/calendar-date';
+import { DEFAULT_METHOD, type ReductionMethod } from '../../domain/reduction-method';
 import type { Database } from '../db/schema';
 import { stateCountyCodes, stateCountyShapes } from './reference';
 
@@ -25,11 +32,19 @@ export async function districtCountySet(db: Kysely<Database>, districtId: number
 	return new Set(rows.map((r) => r.county_fips));
 }
 
+/** The design checks run on every valid record: bioreactor (605) screening with a method's parameters. */
+export function designChecksFor(method: ReductionMethod): NonNullable<CheckContext['designChecks']> {
+	return (record) => bioreactorDesignChecks(record, { method });
+}
+
 export function offlineCheckContext(opts: {
 	stateFips: string;
 	districtCounties?: ReadonlySet<string> | null;
 	today?: string;
-	designChecks?: CheckContext['designChecks'];
+	/** The method whose screening parameters the design checks use (default: the built-in default method). */
+	method?: ReductionMethod;
+	/** Replaces the design checks; `null` turns them off. */
+	designChecks?: CheckContext['designChecks'] | null;
 }): CheckContext {
 	return {
 		stateFips: opts.stateFips,
@@ -37,16 +52,19 @@ export function offlineCheckContext(opts: {
 		today: opts.today ?? todayIn(hubTimeZone()),
 		countyShapes: stateCountyShapes(opts.stateFips),
 		stateCounties: stateCountyCodes(opts.stateFips),
-		designChecks: opts.designChecks
+		designChecks: opts.designChecks === null ? undefined : (opts.designChecks ?? designChecksFor(opts.method ?? DEFAULT_METHOD))
 	};
 }
 
 /** The context for checking an upload of one district (null: no district, skip the served-county rule). */
 export async function loadCheckContext(
 	db: Kysely<Database>,
-	opts: { districtId: number | null; today?: string; designChecks?: CheckContext['designChecks'] }
+	opts: { districtId: number | null; today?: string; designChecks?: CheckContext['designChecks'] | null }
 ): Promise<CheckContext> {
 	const stateFips = await hubStateFips(db);
 	const districtCounties = opts.districtId === null ? null : await districtCountySet(db, opts.districtId);
-	return offlineCheckContext({ stateFips, districtCounties, today: opts.today, designChecks: opts.designChecks });
+	// The hub's active reduction method (its bioreactor parameters: minimum retention, design share, porosity).
+	// Imported when needed: the CLI loads this module through tsx, which does not resolve `$lib` (methods.ts uses it).
+	const method = opts.designChecks === undefined ? await (await import('../methods')).getActiveMethod(db) : undefined;
+	return offlineCheckContext({ stateFips, districtCounties, today: opts.today, method, designChecks: opts.designChecks });
 }

@@ -11,6 +11,7 @@ import { stateFyStartMonth } from '../db/settings';
 import { decodeCursor, toPage, type Page } from '../http/cursor';
 import { ApiError } from '../http/problem';
 import { canReadDistrict, readableDistrictId } from './access';
+import { recordEstimates } from './estimates';
 
 type Db = Kysely<Database> | Transaction<Database>;
 
@@ -117,7 +118,10 @@ function notFound(): ApiError {
 	return new ApiError({ status: 404, type: 'record-not-found', detail: 'There is no such record that you can see.' });
 }
 
-/** One record with its current warnings and every version (newest first), for a principal that may see it. */
+/**
+ * One record with its current warnings, every version (newest first), its stored estimates with the active
+ * method's breakdown and, for bioreactors, the design screening — for a principal that may see it.
+ */
 export async function recordDetail(db: Db, principal: Principal, id: string): Promise<RecordDetail> {
 	if (!/^[1-9][0-9]{0,17}$/.test(id)) throw notFound();
 	const row = await baseQuery(db).select('r.data').where('r.id', '=', id).executeTakeFirst();
@@ -149,7 +153,8 @@ export async function recordDetail(db: Db, principal: Principal, id: string): Pr
 		...summary(row, fyStart),
 		data: row.data as Record<string, unknown>,
 		current_findings: findings.map((f) => ({ ...f, rule: f.rule ?? null })),
-		versions: views.reverse()
+		versions: views.reverse(),
+		...(await recordEstimates(db, String(row.id), row.practice_code, row.data as Record<string, unknown>))
 	};
 }
 
