@@ -26,7 +26,7 @@ export async function up(db: Kysely<any>): Promise<void> {
 		.createIndex('record_reviews_returned_open_idx')
 		.on('record_reviews')
 		.column('record_id')
-		.where(sql.raw(`decision = 'returned' and cleared_at is null`))
+		.where(sql<boolean>`decision = 'returned' and cleared_at is null`)
 		.execute();
 
 	// The review state of each record that ever had warnings: one row per record, kept by the records' change hook.

@@ -68,8 +68,6 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	// reviews and field verification
 	'/reviews': { GET: roles('manager', 'admin'), POST: roles('manager') },
 	'/verification': { GET: roles('manager', 'admin', 'district'), POST: roles('manager', 'district') },
-	'/verification/[id].csv': { GET: roles('manager', 'admin', 'district') },
-	'/verification/[id].xlsx': { GET: roles('manager', 'admin', 'district') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -97,6 +95,7 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	// field verification: draws by the manager; outcomes by the district (own records) or the manager
 	'/api/v1/verification/draws': { GET: scope('records:read'), POST: roles('manager') },
 	'/api/v1/verification/draws/[id]': { GET: scope('records:read') },
+	'/api/v1/verification/draws/[id]/export': { GET: scope('records:read') },
 	'/api/v1/verification/visits': { GET: scope('records:read') },
 	'/api/v1/verification/visits/[id]/outcome': { POST: roles('manager', 'district') },
 	'/api/v1/verification/visits/[id]/confirm': { POST: roles('manager') },
