@@ -102,7 +102,10 @@ describe('drawSample', () => {
 	it('adding a district does not change the other districts’ samples', () => {
 		const pop = population();
 		const before = drawSample(pop, p, 'stable');
-		const more = [...pop, ...Array.from({ length: 10 }, (_, i) => ({ id: String(900 + i), district: 'BAA', edgeOfField: false, neverVisited: true }))];
+		const more = [
+			...pop,
+			...Array.from({ length: 10 }, (_, i) => ({ id: String(900 + i), district: 'BAA', edgeOfField: false, neverVisited: true }))
+		];
 		const after = drawSample(more, p, 'stable');
 		expect(ids(after).filter((id) => Number(id) < 900)).toEqual(ids(before));
 	});
@@ -163,6 +166,12 @@ describe('review queue status after a new version', () => {
 	});
 	it('keys warnings by code and column', () => {
 		expect(warningKey({ code: 'a', column: null })).toBe('a|');
-		expect(uniqueWarningKeys([{ code: 'b', column: 'c' }, { code: 'a', column: null }, { code: 'b', column: 'c' }])).toEqual(['a|', 'b|c']);
+		expect(
+			uniqueWarningKeys([
+				{ code: 'b', column: 'c' },
+				{ code: 'a', column: null },
+				{ code: 'b', column: 'c' }
+			])
+		).toEqual(['a|', 'b|c']);
 	});
 });

@@ -25,7 +25,11 @@ export function uniqueWarningKeys(ws: readonly WarningLike[]): string[] {
  * The queue status for a record's new version, or null when it has no warnings and was never queued.
  * `accepted` holds the warning keys of every earlier `verified` decision on the record.
  */
-export function statusAfterNewVersion(warningKeys: readonly string[], accepted: ReadonlySet<string>, wasQueued: boolean): QueueStatus | null {
+export function statusAfterNewVersion(
+	warningKeys: readonly string[],
+	accepted: ReadonlySet<string>,
+	wasQueued: boolean
+): QueueStatus | null {
 	if (warningKeys.length === 0) return wasQueued ? 'cleared' : null;
 	return warningKeys.some((k) => !accepted.has(k)) ? 'open' : 'verified';
 }

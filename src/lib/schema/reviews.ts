@@ -34,7 +34,9 @@ export const ReviewItem = z.object({
 	local_id: z.string(),
 	practice_code: z.string(),
 	version: z.number().int().describe('The current version of the record.'),
-	status: z.enum(REVIEW_STATUSES).describe('`open`: waiting for a decision; `verified`/`returned`: decided; `cleared`: no warnings any more.'),
+	status: z
+		.enum(REVIEW_STATUSES)
+		.describe('`open`: waiting for a decision; `verified`/`returned`: decided; `cleared`: no warnings any more.'),
 	opened_at: z.string().describe('When the record (last) entered the queue.'),
 	age_days: z.number().int().describe('Whole days since `opened_at`.'),
 	warnings: z.array(z.object({ code: z.string(), column: z.string().nullable(), value: z.string().nullable(), message: z.string() })),

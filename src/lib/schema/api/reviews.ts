@@ -11,7 +11,10 @@ const ReviewPageSchema = registry.register(
 	'ReviewPage',
 	ReviewPage.extend({ data: z.array(ReviewItemSchema) }).meta({ description: 'A page of the review queue, oldest first.' })
 );
-const ReviewDecisionInputSchema = registry.register('ReviewDecisionInput', ReviewDecisionInput.meta({ description: 'A manager’s decision.' }));
+const ReviewDecisionInputSchema = registry.register(
+	'ReviewDecisionInput',
+	ReviewDecisionInput.meta({ description: 'A manager’s decision.' })
+);
 const ReviewDecisionSchema = registry.register('ReviewDecision', ReviewDecisionView.meta({ description: 'A stored decision.' }));
 const ReviewDecisionResultSchema = registry.register(
 	'ReviewDecisionResult',

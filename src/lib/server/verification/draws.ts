@@ -86,7 +86,11 @@ export async function createDraw(principal: Principal, input: DrawInput): Promis
 	const id = await db.transaction().execute(async (trx) => {
 		// One draw per FY: a second request waits for the first and then finds it.
 		await sql`select pg_advisory_xact_lock(hashtextextended(${'runnel:verification-draw:' + input.fiscal_year}, 0))`.execute(trx);
-		const existing = await trx.selectFrom('verification_draws').select(['id', 'seed']).where('fiscal_year', '=', input.fiscal_year).executeTakeFirst();
+		const existing = await trx
+			.selectFrom('verification_draws')
+			.select(['id', 'seed'])
+			.where('fiscal_year', '=', input.fiscal_year)
+			.executeTakeFirst();
 		if (existing)
 			throw new ApiError({
 				status: 409,
@@ -147,7 +151,13 @@ export async function drawView(db: Db, principal: Principal, id: string): Promis
 		.executeTakeFirst();
 	if (!d) return null;
 	const own = principal.role === 'district' ? (principal.districtId ?? -1) : null;
-	const params = d.params as { percent: number; min_per_district: number; edge_weight: number; never_visited_weight: number; per_district?: Array<{ district: string; population: number }> };
+	const params = d.params as {
+		percent: number;
+		min_per_district: number;
+		edge_weight: number;
+		never_visited_weight: number;
+		per_district?: Array<{ district: string; population: number }>;
+	};
 	let q = db
 		.selectFrom('verification_visits as v')
 		.innerJoin('districts as dd', 'dd.id', 'v.district_id')

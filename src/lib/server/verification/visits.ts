@@ -183,7 +183,8 @@ export async function recordOutcome(principal: Principal, id: string, input: Out
 }
 
 export async function confirmNotFound(principal: Principal, id: string): Promise<VisitView> {
-	if (principal.role !== 'manager') throw new ApiError({ status: 403, detail: 'Only the state program manager confirms a not-found visit.' });
+	if (principal.role !== 'manager')
+		throw new ApiError({ status: 403, detail: 'Only the state program manager confirms a not-found visit.' });
 	const db = getDb();
 	await db.transaction().execute(async (trx) => {
 		const v = await lockVisit(trx, principal, id);
