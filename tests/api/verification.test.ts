@@ -255,7 +255,7 @@ describe('field verification', () => {
 		expect(xlsx.status).toBe(200);
 		const ExcelJS = (await import('exceljs')).default;
 		const wb = new ExcelJS.Workbook();
-		await wb.xlsx.load(xlsx.body as Buffer);
+		await wb.xlsx.load(xlsx.body as unknown as ArrayBuffer);
 		const sheet = wb.getWorksheet('Visits')!;
 		expect(sheet.rowCount - 1).toBe(draw.sample_size);
 		const about = wb.getWorksheet('Draw')!;

@@ -82,7 +82,7 @@ describe('review queue in the browser', () => {
 
 		// A corrected version through the real batch API clears it.
 		const rec = await db.selectFrom('records').select('data').where('id', '=', id).executeTakeFirstOrThrow();
-		const data = { ...(rec.data as Record<string, unknown>), notes: 'Checked on site with the landowner; values as built.' };
+		const data: Record<string, unknown> = { ...rec.data, notes: 'Checked on site with the landowner; values as built.' };
 		// The demo's implausible acreage lost its decimal point: put it back.
 		if (Number(data.extent_acres) > 5000) data.extent_acres = Math.round(Number(data.extent_acres) / 10) / 10;
 		const header = Object.keys(data);
