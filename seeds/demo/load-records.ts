@@ -11,6 +11,7 @@ import { stopBoss } from '../../src/lib/server/batches/queue';
 import { getDb } from '../../src/lib/server/db';
 import { closeObjectStore } from '../../src/lib/server/storage/object-store';
 import { toCsv } from './csv';
+import { flaggedDemoRows } from './flagged';
 import { generateDemoRecords } from './records';
 
 /** The seed acts as a system client with the administrator's right to name the district. */
@@ -77,6 +78,8 @@ export async function seedDemoRecords(log: (m: string) => void = () => {}): Prom
 		for (const d of generateDemoRecords()) {
 			await sendFile(d.district, `${d.district.toLowerCase()}-practices.csv`, toCsv(d.initial), log);
 			await sendFile(d.district, `${d.district.toLowerCase()}-corrections.csv`, toCsv(d.update), log);
+			// Accepted with warnings: they wait in the review queue.
+			await sendFile(d.district, `${d.district.toLowerCase()}-flagged.csv`, toCsv(flaggedDemoRows(d)), log);
 		}
 	} finally {
 		await stopBoss();

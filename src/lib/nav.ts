@@ -13,6 +13,8 @@ export const NAV: NavItem[] = [
 	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
 	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
 	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] },
+	{ href: '/reviews', label: 'Reviews', roles: ['manager', 'admin'] },
+	{ href: '/verification', label: 'Field visits', roles: ['manager', 'admin', 'district'] },
 	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] },
 	// administration; everyone's own account page is linked from the header, beside their name
 	{ href: '/admin/users', label: 'Users', roles: ['admin'] },

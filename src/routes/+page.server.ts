@@ -1,6 +1,7 @@
 // The home page: a short introduction for visitors, and each role's own home once signed in.
 import { adminHome, districtsOverview, liveTokenCount } from '$lib/server/accounts/home';
 import { getDb } from '$lib/server/db';
+import { pendingReturns } from '$lib/server/reviews/queue';
 import type { PageServerLoad } from './$types';
 
 export const load = (async ({ locals }) => {
@@ -14,7 +15,15 @@ export const load = (async ({ locals }) => {
 		case 'manager':
 			return { home: { role: 'manager' as const, tokens, districts: await districtsOverview(db, p) } };
 		case 'district':
-			return { home: { role: 'district' as const, tokens, district: (await districtsOverview(db, p))[0] ?? null } };
+			return {
+				home: {
+					role: 'district' as const,
+					tokens,
+					district: (await districtsOverview(db, p))[0] ?? null,
+					// Records the state program returned, until a new version of each arrives.
+					returned: p.districtId === null ? [] : await pendingReturns(db, p.districtId)
+				}
+			};
 		case 'researcher':
 			return { home: { role: 'researcher' as const, tokens, scopes: p.scopes } };
 	}

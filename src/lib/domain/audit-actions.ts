@@ -17,7 +17,13 @@ export const AUDIT_ACTIONS = {
 	'token-created': 'API token created',
 	'token-revoked': 'API token revoked',
 	'district-created': 'District added',
-	'district-updated': 'District changed'
+	'district-updated': 'District changed',
+	// reviews and field verification
+	'review-verified': 'Flagged record verified',
+	'review-returned': 'Flagged record returned to its district',
+	'verification-drawn': 'Field verification sample drawn',
+	'visit-recorded': 'Field visit outcome recorded',
+	'visit-confirmed': 'Not-found visit confirmed (credit withdrawn)'
 } as const;
 
 export type AuditAction = keyof typeof AUDIT_ACTIONS;

@@ -5,6 +5,7 @@ import { countyMapFor } from '$lib/server/rollups/county-shapes';
 import { readSettings, SETTING_KEYS, stateFyStartMonthOf, stateGoalOf } from '$lib/server/rollups/settings';
 import { fiscalYear } from '$lib/domain/fiscal-year';
 import { DEFAULT_FY_SPAN } from '$lib/schema/rollups';
+import { verificationSummary } from '$lib/server/verification/draws';
 import type { PageServerLoad } from './$types';
 
 export const load = (async ({ locals }) => {
@@ -37,6 +38,8 @@ export const load = (async ({ locals }) => {
 		goal: stateGoalOf(settings.get(SETTING_KEYS.stateGoal)),
 		currentFy,
 		defaultFrom: currentFy - DEFAULT_FY_SPAN + 1,
-		startMonth
+		startMonth,
+		// Field verification: share verified working per district in the latest sample.
+		verification: await verificationSummary(db, p)
 	};
 }) satisfies PageServerLoad;

@@ -4,5 +4,6 @@ import './core';
 import './schema-routes';
 import './batches';
 import './rollups';
+import './reviews';
 
 export { registry } from './registry';

@@ -65,6 +65,9 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
 	'/schema': { GET: publicAccess },
 	'/dashboard': { GET: roles('admin', 'manager', 'district') },
+	// reviews and field verification
+	'/reviews': { GET: roles('manager', 'admin'), POST: roles('manager') },
+	'/verification': { GET: roles('manager', 'admin', 'district'), POST: roles('manager', 'district') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -86,6 +89,16 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/records': { GET: scope('records:read') },
 	'/api/v1/records/[id]': { GET: scope('records:read') },
 	'/api/v1/records/[district]/[local_id]': { PUT: ownDistrict(scope('records:write'), 'district') },
+	// reviews: the queue (a district reads its own records' state), decisions by the manager only
+	'/api/v1/reviews': { GET: scope('records:read') },
+	'/api/v1/records/[id]/review': { POST: roles('manager') },
+	// field verification: draws by the manager; outcomes by the district (own records) or the manager
+	'/api/v1/verification/draws': { GET: scope('records:read'), POST: roles('manager') },
+	'/api/v1/verification/draws/[id]': { GET: scope('records:read') },
+	'/api/v1/verification/draws/[id]/export': { GET: scope('records:read') },
+	'/api/v1/verification/visits': { GET: scope('records:read') },
+	'/api/v1/verification/visits/[id]/outcome': { POST: roles('manager', 'district') },
+	'/api/v1/verification/visits/[id]/confirm': { POST: roles('manager') },
 	'/api/v1/openapi.json': { GET: publicAccess },
 	'/api/v1/schema/practice-record.json': { GET: publicAccess },
 	'/api/v1/schema/practice-record.csv': { GET: publicAccess },

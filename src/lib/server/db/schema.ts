@@ -379,6 +379,67 @@ export interface RollupRefreshTable {
 	updated_at: Generated<Date>;
 }
 
+// --- reviews and field verification (keeping the numbers honest) ------------------------------------
+export type ReviewDecision = 'verified' | 'returned';
+export type ReviewStatus = 'open' | 'verified' | 'returned' | 'cleared';
+export type VisitOutcome = 'in_place_working' | 'needs_repair' | 'not_found';
+
+export interface RecordReviewsTable {
+	id: Generated<string>;
+	record_id: string;
+	version: number;
+	decision: ReviewDecision;
+	comment: string;
+	warning_keys: ColumnType<string[], string[] | undefined, string[]>;
+	decided_by_user_id: number | null;
+	actor: string;
+	decided_at: Generated<Date>;
+	cleared_at: Timestamp | null;
+	cleared_by_version: number | null;
+}
+
+export interface ReviewQueueTable {
+	record_id: string;
+	district_id: number;
+	version: number;
+	status: ReviewStatus;
+	opened_at: Generated<Date>;
+	updated_at: Generated<Date>;
+	last_review_id: string | null;
+}
+
+export interface VerificationDrawsTable {
+	id: Generated<number>;
+	fiscal_year: number;
+	seed: string;
+	params: ColumnType<Record<string, unknown>, string, string>;
+	population: number;
+	sample_size: number;
+	due_on: DateOnly;
+	drawn_by_user_id: number | null;
+	actor: string;
+	created_at: Generated<Date>;
+}
+
+export interface VerificationVisitsTable {
+	id: Generated<string>;
+	draw_id: number;
+	record_id: string;
+	district_id: number;
+	edge_of_field: boolean;
+	never_visited: boolean;
+	due_on: DateOnly;
+	outcome: VisitOutcome | null;
+	visited_on: DateOnly | null;
+	repair_due_on: DateOnly | null;
+	note: string | null;
+	recorded_by_user_id: number | null;
+	recorded_by: string | null;
+	recorded_at: Timestamp | null;
+	confirmed_by_user_id: number | null;
+	confirmed_at: Timestamp | null;
+}
+
 export interface Database {
 	settings: SettingsTable;
 	counties: CountiesTable;
@@ -405,6 +466,10 @@ export interface Database {
 	record_estimates: RecordEstimatesTable;
 	rollup_cells: RollupCellsTable;
 	rollup_refresh: RollupRefreshTable;
+	record_reviews: RecordReviewsTable;
+	review_queue: ReviewQueueTable;
+	verification_draws: VerificationDrawsTable;
+	verification_visits: VerificationVisitsTable;
 }
 
 export type District = Selectable<DistrictsTable>;

@@ -5,10 +5,13 @@
 import type { Transaction } from 'kysely';
 import type { Database } from '../db/schema';
 import { refreshRecords } from '../rollups/refresh';
+import { refreshReviewQueue } from '../reviews/queue';
 
 export async function afterRecordsChanged(trx: Transaction<Database>, recordIds: string[]): Promise<void> {
 	if (recordIds.length === 0) return;
 	// Derived-data refreshers are added here by the areas that own them (estimates and rollups).
 	// Rollups: re-estimate the changed records and their field-mates, recompute the summary cells they touch.
 	await refreshRecords(trx, recordIds);
+	// Reviews: a new version ends a pending return and re-opens review only for warnings not yet accepted.
+	await refreshReviewQueue(trx, recordIds);
 }

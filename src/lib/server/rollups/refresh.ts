@@ -20,6 +20,7 @@ import { aggregateCells, summaryKeyId, type CellFact, type CellRow, type Summary
 import type { ReductionMethod } from '$lib/domain/reduction-method';
 import { activeMethodVersion, loadMethod } from './method-source';
 import { stateFyStartMonth } from './settings';
+import { EFFECTIVE_WITHDRAWN_ON } from '../verification/credit';
 
 type Db = Kysely<Database> | Transaction<Database>;
 
@@ -38,7 +39,9 @@ export async function lockRollups(trx: Transaction<Database>): Promise<void> {
 
 // --- loading and writing per-record facts --------------------------------------------------------------
 
-const FACT_RECORD_COLUMNS = sql`r.id::text as id, r.district_id, r.practice_code, r.county_fips, r.installed_on, r.status, r.withdrawn_on,
+// withdrawn_on: the record's own withdrawal, or earlier a confirmed `not found` field visit (verification/credit.ts).
+const FACT_RECORD_COLUMNS = sql`r.id::text as id, r.district_id, r.practice_code, r.county_fips, r.installed_on, r.status,
+	${EFFECTIVE_WITHDRAWN_ON} as withdrawn_on,
 	r.extent_acres, r.drainage_area_acres, r.field_id, r.operation_id, r.huc12, r.cost_total_usd, r.cost_share_usd,
 	p.lifespan_years as catalog_lifespan_years`;
 
