@@ -9,7 +9,11 @@ export const Finding = z.object({
 	/** Stable slug, e.g. `required-missing`, `county-not-served`, `bioreactor-undersized`. */
 	code: z.string(),
 	severity: FindingSeverity,
-	/** 1-based row number, header counted (the first data row is 2); null for file-level findings. */
+	/**
+	 * Where to find the row, 1-based; null for file-level findings. CSV/XLSX: the row number with the header
+	 * counted (the first data row is 2; XLSX: the sheet's row number). NDJSON: the line number. JSON: the
+	 * element's position in the array.
+	 */
 	row: z.number().int().nullable(),
 	column: z.string().nullable(),
 	/** 1-based column number in the file; null when not tied to a column. */
