@@ -18,6 +18,9 @@ async function main() {
 	const port = Number(process.env.PORT ?? 3000);
 	process.env.ORIGIN ??= `http://${host}:${port}`;
 	process.env.RUNNEL_ROOT ??= ROOT;
+	// adapter-node refuses bodies over BODY_SIZE_LIMIT (512 KB by default) before our code runs; uploads are
+	// streamed and limited by MAX_UPLOAD_MB (and small JSON bodies by their endpoints) instead.
+	process.env.BODY_SIZE_LIMIT ??= 'Infinity';
 
 	const cluster = await ensureDatabase(log);
 	await migrateToLatest();

@@ -6,6 +6,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { build } from './lib/build';
 import { ROOT } from './lib/env';
+import { startFakeS3Process, type FakeS3Process } from './lib/fake-s3';
 import { startThrowawayCluster, type Cluster } from './lib/postgres';
 
 const log = (m: string) => console.error(m);
@@ -31,12 +32,18 @@ async function main(): Promise<number> {
 	const args = process.argv.slice(2);
 	ensureChromium();
 	let cluster: Cluster | null = null;
+	let s3: FakeS3Process | null = null;
 	const env: NodeJS.ProcessEnv = { ...process.env, RUNNEL_DEMO: '1', NODE_ENV: 'test', RUNNEL_ROOT: ROOT };
 	try {
 		if (!env.DATABASE_URL) {
 			cluster = await startThrowawayCluster('runnel_test');
 			env.DATABASE_URL = cluster.url;
 			log(`Throwaway PostgreSQL on 127.0.0.1:${cluster.port}`);
+		}
+		if (!env.S3_URL) {
+			// One object store for the whole run (seed, app, worker processes), in a temporary folder.
+			s3 = await startFakeS3Process();
+			Object.assign(env, s3.env);
 		}
 		if (!env.SKIP_BUILD) build(log);
 		tsx('scripts/migrate.ts', env);
@@ -77,6 +84,7 @@ async function main(): Promise<number> {
 		console.log(`${passed} passed, ${failed} failed${skipped ? `, ${skipped} skipped` : ''}`);
 		return r.status === 0 && failed === 0 && passed > 0 ? 0 : 1;
 	} finally {
+		s3?.stop();
 		cluster?.stop();
 	}
 }

@@ -9,7 +9,9 @@ export interface NavItem {
 
 export const NAV: NavItem[] = [
 	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
-	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] }
+	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] },
+	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
+	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

@@ -2,6 +2,7 @@
 // throwaway database (DATABASE_URL). Run alone (`npx vitest --project api`), this starts one itself.
 import { spawnSync } from 'node:child_process';
 import path from 'node:path';
+import { startFakeS3Process } from '../../scripts/lib/fake-s3';
 import { startThrowawayCluster } from '../../scripts/lib/postgres';
 
 const ROOT = path.resolve(import.meta.dirname, '..', '..');
@@ -9,12 +10,18 @@ const ROOT = path.resolve(import.meta.dirname, '..', '..');
 export default async function setup() {
 	process.env.RUNNEL_DEMO = '1';
 	process.env.RUNNEL_ROOT = ROOT;
-	if (process.env.DATABASE_URL) return;
+	// Uploads are archived in one fake S3 server shared by every process of the run.
+	const s3 = process.env.S3_URL ? null : await startFakeS3Process();
+	if (s3) Object.assign(process.env, s3.env);
+	if (process.env.DATABASE_URL) return () => s3?.stop();
 	const cluster = await startThrowawayCluster('runnel_test');
 	process.env.DATABASE_URL = cluster.url;
 	for (const script of ['scripts/migrate.ts', 'scripts/seed.ts']) {
 		const r = spawnSync(process.execPath, ['--import', 'tsx', path.join(ROOT, script)], { cwd: ROOT, stdio: 'inherit', env: process.env });
 		if (r.status !== 0) throw new Error(`${script} failed`);
 	}
-	return () => cluster.stop();
+	return () => {
+		s3?.stop();
+		cluster.stop();
+	};
 }

@@ -14,6 +14,8 @@ export function appHandler(): Promise<Handler> {
 	process.env.NODE_ENV ??= 'test';
 	process.env.RUNNEL_ROOT ??= ROOT;
 	process.env.ORIGIN ??= 'http://127.0.0.1:3000';
+	// As scripts/start.ts: uploads are limited by MAX_UPLOAD_MB while streaming, not by adapter-node.
+	process.env.BODY_SIZE_LIMIT ??= 'Infinity';
 	handlerPromise ??= import(pathToFileURL(path.join(ROOT, 'build', 'handler.js')).href).then((m) => m.handler as Handler);
 	return handlerPromise;
 }

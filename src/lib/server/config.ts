@@ -16,5 +16,38 @@ export const config = {
 	},
 	get maxUploadBytes(): number {
 		return Number(process.env.MAX_UPLOAD_MB ?? 50) * 1024 * 1024;
+	},
+	/** Object storage (S3 API). Unset S3_URL: a local fake S3 server on 127.0.0.1 (development and tests). */
+	get s3(): {
+		url: string | null;
+		bucket: string;
+		region: string;
+		accessKeyId: string | null;
+		secretAccessKey: string | null;
+		forcePathStyle: boolean;
+	} {
+		return {
+			url: process.env.S3_URL || null,
+			bucket: process.env.S3_BUCKET || 'runnel',
+			region: process.env.S3_REGION || 'us-east-1',
+			accessKeyId: process.env.S3_ACCESS_KEY_ID || null,
+			secretAccessKey: process.env.S3_SECRET_ACCESS_KEY || null,
+			forcePathStyle: (process.env.S3_FORCE_PATH_STYLE ?? '1') !== '0'
+		};
+	},
+	get fakeS3(): { port: number; dir: string } {
+		const root = process.env.RUNNEL_ROOT ?? process.cwd();
+		return {
+			port: Number(process.env.S3_FAKE_PORT ?? Number(process.env.PGPORT ?? 54329) + 1),
+			dir: process.env.S3_FAKE_DIR ?? `${root}/.data/s3`
+		};
+	},
+	/** `0` keeps the batch worker out of the app process (run `npm run worker` instead). */
+	get inProcessWorker(): boolean {
+		return process.env.RUNNEL_WORKER !== '0';
+	},
+	/** A batch whose worker has not reported for this long is taken over by another worker (crash recovery). */
+	get batchStaleSeconds(): number {
+		return Number(process.env.BATCH_STALE_SECONDS ?? 120);
 	}
 };

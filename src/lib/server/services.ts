@@ -1,10 +1,12 @@
 // Background services that run inside the app process: started once by the `init` hook,
 // stopped on adapter-node's `sveltekit:shutdown` event. Each area registers its service here.
+import { batchWorkerService } from './batches/worker';
 import { logger } from './log';
+import { objectStorageService } from './storage/service';
 
 type Service = { name: string; start: () => Promise<void> | void; stop: () => Promise<void> | void };
 
-const services: Service[] = [];
+const services: Service[] = [objectStorageService, batchWorkerService];
 let started = false;
 
 export async function startServices(): Promise<void> {

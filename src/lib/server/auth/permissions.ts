@@ -28,13 +28,23 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/': { GET: publicAccess },
 	'/methods': { GET: signedIn, POST: roles('admin') },
 	'/methods/new': { GET: roles('admin'), POST: roles('admin') },
+	'/batches': { GET: roles('district', 'manager', 'admin') },
+	'/batches/[id]': { GET: roles('district', 'manager', 'admin') },
+	'/records': { GET: roles('district', 'manager', 'admin') },
+	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
 	'/api/v1/me': { GET: signedIn },
 	'/api/v1/methods': { GET: anyScope('rollups:read', 'records:read'), POST: scope('admin') },
 	'/api/v1/methods/[version]': { GET: anyScope('rollups:read', 'records:read') },
-	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: scope('admin') }
+	'/api/v1/settings/active-method': { GET: anyScope('rollups:read', 'records:read'), PUT: scope('admin') },
+	'/api/v1/batches': { GET: scope('records:read'), POST: scope('records:write') },
+	'/api/v1/batches/[id]': { GET: scope('records:read') },
+	'/api/v1/batches/[id]/findings': { GET: scope('records:read') },
+	'/api/v1/records': { GET: scope('records:read') },
+	'/api/v1/records/[id]': { GET: scope('records:read') },
+	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.

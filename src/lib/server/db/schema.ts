@@ -117,6 +117,88 @@ export interface RecordVersionsTable {
 	created_at: Generated<Date>;
 }
 
+// --- intake: batches, findings, idempotency keys, current record warnings ------------------------
+export type BatchMode = 'check' | 'all' | 'valid';
+export type BatchStatus = 'received' | 'checking' | 'done' | 'failed';
+export type UploadFormat = 'csv' | 'xlsx' | 'ndjson' | 'json';
+
+export interface BatchesTable {
+	id: Generated<string>;
+	district_id: number;
+	mode: BatchMode;
+	status: Generated<BatchStatus>;
+	format: UploadFormat;
+	content_type: string;
+	file_name: string | null;
+	sheet: string | null;
+	size_bytes: ColumnType<string, number | string, number | string>;
+	sha256: string;
+	archive_key: string;
+	schema_version: string;
+	encoding: string | null;
+	actor: string;
+	user_id: number | null;
+	rows_done: Generated<number>;
+	rows: Generated<number>;
+	accepted: Generated<number>;
+	rejected: Generated<number>;
+	errors: Generated<number>;
+	warnings: Generated<number>;
+	created: Generated<number>;
+	updated: Generated<number>;
+	unchanged: Generated<number>;
+	withdrawn: Generated<number>;
+	findings_by_code: ColumnType<Record<string, number>, string | undefined, string>;
+	findings_by_column: ColumnType<Record<string, number>, string | undefined, string>;
+	findings_omitted: Generated<number>;
+	failure: string | null;
+	attempts: Generated<number>;
+	heartbeat_at: Timestamp | null;
+	created_at: Generated<Date>;
+	started_at: Timestamp | null;
+	finished_at: Timestamp | null;
+	committed_at: Timestamp | null;
+}
+
+export interface BatchFindingsTable {
+	batch_id: string;
+	seq: number;
+	code: string;
+	severity: 'error' | 'warning';
+	row: number | null;
+	column: string | null;
+	column_number: number | null;
+	cell: string | null;
+	value: string | null;
+	rule: ColumnType<Record<string, unknown>, string, string> | null;
+	message: string;
+}
+
+export interface IdempotencyKeysTable {
+	scope: string;
+	key: string;
+	fingerprint: string;
+	batch_id: string | null;
+	response_status: number;
+	response_location: string | null;
+	response_body: ColumnType<Record<string, unknown>, string, string>;
+	created_at: Generated<Date>;
+	expires_at: Timestamp;
+}
+
+export interface RecordFindingsTable {
+	record_id: string;
+	version: number;
+	code: string;
+	severity: 'error' | 'warning';
+	column: string | null;
+	value: string | null;
+	rule: ColumnType<Record<string, unknown>, string, string> | null;
+	message: string;
+	batch_id: string | null;
+	created_at: Generated<Date>;
+}
+
 // --- mail -----------------------------------------------------------------------------------------
 export interface MailMessagesTable {
 	id: Generated<string>;
@@ -156,6 +238,10 @@ export interface Database {
 	record_versions: RecordVersionsTable;
 	mail_messages: MailMessagesTable;
 	reduction_methods: ReductionMethodsTable;
+	batches: BatchesTable;
+	batch_findings: BatchFindingsTable;
+	idempotency_keys: IdempotencyKeysTable;
+	record_findings: RecordFindingsTable;
 }
 
 export type District = Selectable<DistrictsTable>;
@@ -168,3 +254,5 @@ export type PracticeRecord = Selectable<RecordsTable>;
 export type RecordVersion = Selectable<RecordVersionsTable>;
 export type Practice = Selectable<PracticesTable>;
 export type County = Selectable<CountiesTable>;
+export type Batch = Selectable<BatchesTable>;
+export type BatchFinding = Selectable<BatchFindingsTable>;
