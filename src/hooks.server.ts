@@ -7,6 +7,8 @@ import { authenticate } from '$lib/server/auth/authenticate';
 import { decide } from '$lib/server/auth/authorize';
 import { ruleFor } from '$lib/server/auth/permissions';
 import { ApiError, PROBLEM_CONTENT_TYPE, problemResponse, STATUS_TITLES } from '$lib/server/http/problem';
+import { applySecurityHeaders, csrfRefusal } from '$lib/server/http/security';
+import { config } from '$lib/server/config';
 import { logger } from '$lib/server/log';
 import { startServices } from '$lib/server/services';
 import type { ServerInit } from '@sveltejs/kit';
@@ -33,8 +35,13 @@ const requestId: Handle = async ({ event, resolve }) => {
 	return response;
 };
 
+/** API routes that answer errors in a format their standard prescribes instead of RFC 9457. */
+const OWN_ERROR_FORMAT = new Set([
+	'/api/v1/oauth/token' // RFC 6749 §5.2 JSON errors
+]);
+
 const problems: Handle = async ({ event, resolve }) => {
-	if (!isApi(event.url.pathname)) return resolve(event);
+	if (!isApi(event.url.pathname) || OWN_ERROR_FORMAT.has(event.route.id ?? '')) return resolve(event);
 	let response: Response;
 	try {
 		response = await resolve(event);
@@ -136,14 +143,28 @@ const auth: Handle = async ({ event, resolve }) => {
 	return resolve(event);
 };
 
+// CSP, nosniff, referrer and framing headers (src/lib/server/http/security.ts; pages get their CSP
+// from kit.csp in svelte.config.js, per-route overrides such as the API docs page live in ROUTE_POLICIES).
 const securityHeaders: Handle = async ({ event, resolve }) => {
 	const response = await resolve(event);
-	response.headers.set('x-content-type-options', 'nosniff');
-	response.headers.set('referrer-policy', 'same-origin');
+	applySecurityHeaders(response, event.route.id, config.origin.startsWith('https:'));
 	return response;
 };
 
-export const handle: Handle = sequence(requestId, securityHeaders, problems, auth);
+// SvelteKit's CSRF origin check, in our hands (see src/lib/server/http/security.ts for why).
+const csrf: Handle = async ({ event, resolve }) => {
+	const refusal = csrfRefusal(event.request, event.url, event.route.id);
+	if (!refusal) return resolve(event);
+	if (isApi(event.url.pathname) && !OWN_ERROR_FORMAT.has(event.route.id ?? '')) {
+		return problemResponse(
+			{ status: 403, detail: `Cross-site ${event.request.method} form submissions are forbidden; send the body as JSON or a file type.` },
+			event.locals.requestId
+		);
+	}
+	return refusal;
+};
+
+export const handle: Handle = sequence(requestId, securityHeaders, csrf, problems, auth);
 
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	if (error instanceof ApiError) {

@@ -11,7 +11,9 @@ export const NAV: NavItem[] = [
 	{ href: '/', label: 'Home', roles: ['admin', 'manager', 'district', 'researcher'] },
 	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] },
 	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
-	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] }
+	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
+	{ href: '/admin/oauth-clients', label: 'OAuth clients', roles: ['admin'] },
+	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

@@ -3,6 +3,7 @@ import http from 'node:http';
 import type { AddressInfo } from 'node:net';
 import path from 'node:path';
 import { pathToFileURL } from 'node:url';
+import { freePort } from '../../scripts/lib/postgres';
 
 export const ROOT = path.resolve(import.meta.dirname, '..', '..');
 
@@ -22,9 +23,16 @@ export function appHandler(): Promise<Handler> {
 
 /** Starts the built app on a free loopback port; returns its origin and a close function. */
 export async function startApp(): Promise<{ origin: string; close: () => Promise<void> }> {
+	// Form posts must come from the app's own ORIGIN (CSRF check), and adapter-node reads ORIGIN once, on
+	// import: when this process has not loaded the app yet, choose the port first and make it the ORIGIN.
+	let port = 0;
+	if (!handlerPromise && !process.env.ORIGIN) {
+		port = await freePort();
+		process.env.ORIGIN = `http://127.0.0.1:${port}`;
+	}
 	const handler = await appHandler();
 	const server = http.createServer(handler);
-	await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
+	await new Promise<void>((r) => server.listen(port, '127.0.0.1', r));
 	const origin = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
 	return {
 		origin,

@@ -2,11 +2,17 @@
 // stopped on adapter-node's `sveltekit:shutdown` event. Each area registers its service here.
 import { batchWorkerService } from './batches/worker';
 import { logger } from './log';
+import { mailSenderService } from './mail/sender';
 import { objectStorageService } from './storage/service';
 
 type Service = { name: string; start: () => Promise<void> | void; stop: () => Promise<void> | void };
 
-const services: Service[] = [objectStorageService, batchWorkerService];
+const services: Service[] = [
+	objectStorageService,
+	batchWorkerService,
+	// mail: delivers the outbox over SMTP (or to the local fake SMTP server)
+	mailSenderService
+];
 let started = false;
 
 export async function startServices(): Promise<void> {

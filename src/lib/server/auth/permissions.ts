@@ -32,6 +32,10 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/batches/[id]': { GET: roles('district', 'manager', 'admin') },
 	'/records': { GET: roles('district', 'manager', 'admin') },
 	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
+	'/admin/outbox': { GET: roles('admin') },
+	'/admin/outbox/[id]': { GET: roles('admin'), POST: roles('admin') },
+	'/admin/oauth-clients': { GET: roles('admin'), POST: roles('admin') },
+	'/.well-known/jwks.json': { GET: publicAccess },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -44,7 +48,9 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/batches/[id]/findings': { GET: scope('records:read') },
 	'/api/v1/records': { GET: scope('records:read') },
 	'/api/v1/records/[id]': { GET: scope('records:read') },
-	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') }
+	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') },
+	// OAuth client credentials: the client authenticates inside the request (RFC 6749 §2.3.1).
+	'/api/v1/oauth/token': { POST: publicAccess }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.

@@ -213,6 +213,49 @@ export interface MailMessagesTable {
 	next_attempt_at: Generated<Date>;
 	sent_at: Timestamp | null;
 	created_at: Generated<Date>;
+	/** RFC 5322 Message-ID the sender put on the message (the same on every retry). */
+	message_id: string | null;
+}
+
+/** A message received by the in-process fake SMTP server (when SMTP_URL is unset). */
+export interface MailReceivedTable {
+	id: Generated<string>;
+	message_id: string | null;
+	envelope_from: string | null;
+	envelope_to: string[];
+	from_header: string | null;
+	to_header: string | null;
+	subject: string | null;
+	text_body: string | null;
+	html_body: string | null;
+	raw: string;
+	size_bytes: number;
+	received_at: Generated<Date>;
+}
+
+// --- signing keys and OAuth clients --------------------------------------------------------------
+export interface SigningKeysTable {
+	kid: string;
+	alg: string;
+	public_jwk: ColumnType<Record<string, unknown>, string, string>;
+	private_jwk: string;
+	status: 'active' | 'previous' | 'retired';
+	created_at: Generated<Date>;
+	rotated_at: Timestamp | null;
+	retired_at: Timestamp | null;
+}
+
+export interface OAuthClientsTable {
+	id: Generated<number>;
+	client_id: string;
+	name: string;
+	district_id: number;
+	scopes: string[];
+	secret_hash: string;
+	created_by: number | null;
+	created_at: Generated<Date>;
+	last_used_at: Timestamp | null;
+	revoked_at: Timestamp | null;
 }
 
 // --- reduction methods (estimates) --------------------------------------------------------------
@@ -242,6 +285,9 @@ export interface Database {
 	batch_findings: BatchFindingsTable;
 	idempotency_keys: IdempotencyKeysTable;
 	record_findings: RecordFindingsTable;
+	mail_received: MailReceivedTable;
+	signing_keys: SigningKeysTable;
+	oauth_clients: OAuthClientsTable;
 }
 
 export type District = Selectable<DistrictsTable>;
@@ -256,3 +302,7 @@ export type Practice = Selectable<PracticesTable>;
 export type County = Selectable<CountiesTable>;
 export type Batch = Selectable<BatchesTable>;
 export type BatchFinding = Selectable<BatchFindingsTable>;
+export type MailMessage = Selectable<MailMessagesTable>;
+export type MailReceived = Selectable<MailReceivedTable>;
+export type SigningKey = Selectable<SigningKeysTable>;
+export type OAuthClient = Selectable<OAuthClientsTable>;
