@@ -62,7 +62,15 @@ export const DEMO_USERS: Array<{ email: string; name: string; role: Role; distri
 	{ email: 'researcher@runnel.test', name: 'Ines Calloway-Rusk', role: 'researcher', token: 'rnl_demo_researcher' }
 ];
 
+/** The dashboard's state goal in the demo: an invented number, labelled as such wherever it shows. */
+export const DEMO_STATE_GOAL = { n_lb_per_yr: 120_000, label: 'Demo goal, invented for the demo scenario', demo: true };
+
 export async function seedDemo(db: Kysely<Database>): Promise<void> {
+	await db
+		.insertInto('settings')
+		.values({ key: 'state_goal', value: JSON.stringify(DEMO_STATE_GOAL) })
+		.onConflict((oc) => oc.column('key').doNothing())
+		.execute();
 	const districtIds = new Map<string, number>();
 	for (const d of DEMO_DISTRICTS) {
 		const row = await db

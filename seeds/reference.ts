@@ -12,7 +12,8 @@ const require = createRequire(import.meta.url);
 export const DEFAULT_SETTINGS: Record<string, unknown> = {
 	hub_state_fips: process.env.HUB_STATE_FIPS ?? '19',
 	state_fy_start_month: 7,
-	active_method_version: DEFAULT_METHOD.version
+	active_method_version: DEFAULT_METHOD.version,
+	small_cell_k: 3
 };
 
 export async function seedReference(db: Kysely<Database>): Promise<void> {

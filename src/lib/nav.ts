@@ -13,7 +13,8 @@ export const NAV: NavItem[] = [
 	{ href: '/batches', label: 'Batches', roles: ['district', 'manager', 'admin'] },
 	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
 	{ href: '/admin/oauth-clients', label: 'OAuth clients', roles: ['admin'] },
-	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] }
+	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'] },
+	{ href: '/dashboard', label: 'Dashboard', roles: ['admin', 'manager', 'district'] }
 ];
 
 export function navFor(role: Role | null): NavItem[] {

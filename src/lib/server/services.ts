@@ -3,6 +3,7 @@
 import { batchWorkerService } from './batches/worker';
 import { logger } from './log';
 import { mailSenderService } from './mail/sender';
+import { rollupService } from './rollups/service';
 import { objectStorageService } from './storage/service';
 
 type Service = { name: string; start: () => Promise<void> | void; stop: () => Promise<void> | void };
@@ -11,7 +12,8 @@ const services: Service[] = [
 	objectStorageService,
 	batchWorkerService,
 	// mail: delivers the outbox over SMTP (or to the local fake SMTP server)
-	mailSenderService
+	mailSenderService,
+	rollupService
 ];
 let started = false;
 

@@ -36,6 +36,7 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/admin/outbox/[id]': { GET: roles('admin'), POST: roles('admin') },
 	'/admin/oauth-clients': { GET: roles('admin'), POST: roles('admin') },
 	'/.well-known/jwks.json': { GET: publicAccess },
+	'/dashboard': { GET: roles('admin', 'manager', 'district') },
 
 	// --- API ---
 	'/api/v1/health': { GET: publicAccess },
@@ -50,7 +51,8 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/records/[id]': { GET: scope('records:read') },
 	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') },
 	// OAuth client credentials: the client authenticates inside the request (RFC 6749 §2.3.1).
-	'/api/v1/oauth/token': { POST: publicAccess }
+	'/api/v1/oauth/token': { POST: publicAccess },
+	'/api/v1/rollups': { GET: scope('rollups:read') }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.

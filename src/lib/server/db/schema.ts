@@ -269,6 +269,73 @@ export interface ReductionMethodsTable {
 	created_at: Generated<Date>;
 }
 
+// --- rollups: stored estimates and summary cells ------------------------------------------------------
+export interface RecordEstimatesTable {
+	record_id: string;
+	method_version: string;
+	counted: boolean;
+	reason: string | null;
+	credited_acres: Numeric;
+	n_lb_mean: Numeric;
+	n_lb_low: Numeric;
+	n_lb_high: Numeric;
+	p_lb_mean: Numeric;
+	p_lb_low: Numeric;
+	p_lb_high: Numeric;
+	district_id: number;
+	county_fips: string;
+	huc8: string | null;
+	practice_code: string;
+	field_id: string | null;
+	operation_key: string;
+	cost_usd: Numeric | null;
+	cost_share_usd: Numeric | null;
+	state_fy_start_month: number;
+	state_fy_installed: number;
+	state_fy_first: number | null;
+	state_fy_last: number | null;
+	federal_fy_installed: number;
+	federal_fy_first: number | null;
+	federal_fy_last: number | null;
+	computed_at: Generated<Date>;
+}
+
+export interface RollupCellsTable {
+	method_version: string;
+	fy_basis: 'state' | 'federal';
+	basis: 'installed' | 'in_service';
+	geo_level: 'county' | 'huc8' | 'district';
+	fy: number;
+	district_id: number;
+	geo: string;
+	practice_code: string;
+	practices: number;
+	operations: number;
+	credited_acres: Numeric;
+	cost_usd: Numeric;
+	cost_share_usd: Numeric;
+	n_lb_mean: Numeric;
+	n_lb_low: Numeric;
+	n_lb_high: Numeric;
+	p_lb_mean: Numeric;
+	p_lb_low: Numeric;
+	p_lb_high: Numeric;
+}
+
+export interface RollupRefreshTable {
+	method_version: string;
+	status: 'pending' | 'running' | 'ready' | 'stale' | 'failed';
+	state_fy_start_month: number | null;
+	phase: string | null;
+	done: Generated<number>;
+	total: Generated<number>;
+	error: string | null;
+	requested_at: Generated<Date>;
+	started_at: Timestamp | null;
+	finished_at: Timestamp | null;
+	updated_at: Generated<Date>;
+}
+
 export interface Database {
 	settings: SettingsTable;
 	counties: CountiesTable;
@@ -288,6 +355,9 @@ export interface Database {
 	mail_received: MailReceivedTable;
 	signing_keys: SigningKeysTable;
 	oauth_clients: OAuthClientsTable;
+	record_estimates: RecordEstimatesTable;
+	rollup_cells: RollupCellsTable;
+	rollup_refresh: RollupRefreshTable;
 }
 
 export type District = Selectable<DistrictsTable>;

@@ -4,9 +4,11 @@
 // maintained incrementally when a batch commits and never recomputed from all records on a request.
 import type { Transaction } from 'kysely';
 import type { Database } from '../db/schema';
+import { refreshRecords } from '../rollups/refresh';
 
 export async function afterRecordsChanged(trx: Transaction<Database>, recordIds: string[]): Promise<void> {
 	if (recordIds.length === 0) return;
 	// Derived-data refreshers are added here by the areas that own them (estimates and rollups).
-	void trx;
+	// Rollups: re-estimate the changed records and their field-mates, recompute the summary cells they touch.
+	await refreshRecords(trx, recordIds);
 }

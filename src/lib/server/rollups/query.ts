@@ -1,0 +1,400 @@
+// Answers a rollup request from the stored summary cells — never from the records. Picks the summary
+// level that matches the grouping and filters (county / HUC-8 / district × practice or all practices),
+// sums over districts where the grouping has no district (exact for every measure: operation ids are
+// district-scoped), applies the caller's district scope, and for researchers the small-cell rule.
+import { sql, type Kysely, type RawBuilder } from 'kysely';
+import type { Database } from '../db/schema';
+import type { Principal } from '../auth/principal';
+import { ApiError } from '../http/problem';
+import { fiscalYear } from '$lib/domain/fiscal-year';
+import type { ReductionMethod } from '$lib/domain/reduction-method';
+import { applySmallCellRule, type BaseCell, type SmallCellCounts } from '$lib/domain/small-cell-rule';
+import { DEFAULT_FY_SPAN, type Grouping, type RollupCell, type RollupPending, type RollupQuery, type RollupResponse, type RollupTotal } from '$lib/schema/rollups';
+import { activeMethodVersion, loadMethod } from './method-source';
+import { isCurrent, requestRebuild, summaryState } from './refresh';
+import { readSettings, SETTING_KEYS, smallCellKOf, stateFyStartMonthOf } from './settings';
+
+export type RollupOutcome = { kind: 'ready'; response: RollupResponse; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
+
+interface Lookups {
+	counties: Map<string, string>;
+	practices: Map<string, string>;
+	districts: Map<number, { code: string; name: string; region: string }>;
+}
+
+/** Names for the answer: practices and districts (short lists) and the counties of the hub state. */
+async function lookups(db: Kysely<Database>, stateFips: string): Promise<Lookups> {
+	const [counties, practices, districts] = await Promise.all([
+		db.selectFrom('counties').select(['fips', 'name']).where('state_fips', '=', stateFips).execute(),
+		db.selectFrom('practices').select(['code', 'name']).execute(),
+		db.selectFrom('districts').select(['id', 'code', 'name', 'region']).execute()
+	]);
+	return {
+		counties: new Map(counties.map((c) => [c.fips, c.name])),
+		practices: new Map(practices.map((p) => [p.code, p.name])),
+		districts: new Map(districts.map((d) => [d.id, { code: d.code, name: d.name, region: d.region }]))
+	};
+}
+
+/** Resolves a district filter (code or id) to an id; 404 when unknown. */
+async function resolveDistrict(db: Kysely<Database>, text: string): Promise<number> {
+	const row = /^[0-9]+$/.test(text)
+		? await db.selectFrom('districts').select('id').where('id', '=', Number(text)).executeTakeFirst()
+		: await db.selectFrom('districts').select('id').where(sql`lower(code)`, '=', text.toLowerCase()).executeTakeFirst();
+	if (!row) throw new ApiError({ status: 404, type: 'unknown-district', detail: `No district ${text}.`, errors: [{ pointer: '#/query/district', detail: 'Unknown district.' }] });
+	return row.id;
+}
+
+/** The last DEFAULT_FY_SPAN fiscal years, ending with the current one on the asked FY basis. */
+export function defaultFyRange(fyBasis: 'state' | 'federal', startMonth: number, today = new Date()): { from: number; to: number } {
+	const to = fiscalYear(today.toISOString().slice(0, 10), fyBasis, startMonth);
+	return { from: to - DEFAULT_FY_SPAN + 1, to };
+}
+
+const MEASURES = sql`
+	sum(practices)::int as practices, sum(operations)::int as operations,
+	round(sum(credited_acres), 2) as credited_acres, round(sum(cost_usd), 2) as cost_usd, round(sum(cost_share_usd), 2) as cost_share_usd,
+	round(sum(n_lb_mean), 1) as n_lb_yr_mean, round(sum(n_lb_low), 1) as n_lb_yr_low, round(sum(n_lb_high), 1) as n_lb_yr_high,
+	round(sum(p_lb_mean), 1) as p_lb_yr_mean, round(sum(p_lb_low), 1) as p_lb_yr_low, round(sum(p_lb_high), 1) as p_lb_yr_high,
+	round(sum(cost_usd) / nullif(sum(n_lb_mean), 0), 2) as usd_per_lb_n`;
+
+type MeasureRow = {
+	practices: number;
+	operations: number | null;
+	credited_acres: string;
+	cost_usd: string;
+	cost_share_usd: string;
+	n_lb_yr_mean: string;
+	n_lb_yr_low: string;
+	n_lb_yr_high: string;
+	p_lb_yr_mean: string;
+	p_lb_yr_low: string;
+	p_lb_yr_high: string;
+	usd_per_lb_n: string | null;
+};
+
+function measures(r: MeasureRow) {
+	return {
+		practices: Number(r.practices),
+		operations: r.operations === null ? null : Number(r.operations),
+		credited_acres: Number(r.credited_acres),
+		cost_usd: Number(r.cost_usd),
+		cost_share_usd: Number(r.cost_share_usd),
+		n_lb_yr_mean: Number(r.n_lb_yr_mean),
+		n_lb_yr_low: Number(r.n_lb_yr_low),
+		n_lb_yr_high: Number(r.n_lb_yr_high),
+		p_lb_yr_mean: Number(r.p_lb_yr_mean),
+		p_lb_yr_low: Number(r.p_lb_yr_low),
+		p_lb_yr_high: Number(r.p_lb_yr_high),
+		usd_per_lb_n: r.usd_per_lb_n === null ? null : Number(r.usd_per_lb_n)
+	};
+}
+
+export interface CellSource {
+	methodVersion: string;
+	fyBasis: 'state' | 'federal';
+	basis: 'installed' | 'in_service';
+	fy: { from: number; to: number };
+	districtId: number | null;
+	county: string | null;
+	practice: string | null;
+}
+
+/** The summary level a grouping reads: geography and practice level chosen so no cell is summed across them. */
+export function sourceLevel(g: Grouping, src: Pick<CellSource, 'county' | 'practice'>): { geoLevel: 'county' | 'huc8' | 'district'; byPractice: boolean } {
+	const geoLevel = g.dims.includes('county') || src.county ? 'county' : g.dims.includes('huc8') ? 'huc8' : 'district';
+	return { geoLevel, byPractice: g.dims.includes('practice') || !!src.practice };
+}
+
+function where(src: CellSource, geoLevel: string, byPractice: boolean): RawBuilder<unknown> {
+	const parts = [
+		sql`method_version = ${src.methodVersion}`,
+		sql`fy_basis = ${src.fyBasis}`,
+		sql`basis = ${src.basis}`,
+		sql`geo_level = ${geoLevel}`,
+		sql`fy between ${src.fy.from} and ${src.fy.to}`,
+		src.practice ? sql`practice_code = ${src.practice}` : byPractice ? sql`practice_code <> '*'` : sql`practice_code = '*'`
+	];
+	if (src.districtId !== null) parts.push(sql`district_id = ${src.districtId}`);
+	if (src.county && geoLevel === 'county') parts.push(sql`geo = ${src.county}`);
+	return sql.join(parts, sql` and `);
+}
+
+/** The SQL a grouping reads (exported so the benchmark can time the bare summary read). */
+export function groupingSql(g: Grouping, src: CellSource): RawBuilder<MeasureRow & Record<string, unknown>> {
+	const { geoLevel, byPractice } = sourceLevel(g, src);
+	const keys: RawBuilder<unknown>[] = [sql`fy`];
+	if (g.dims.includes('district')) keys.push(sql`district_id`);
+	if (g.dims.includes('county') || g.dims.includes('huc8')) keys.push(sql`geo`);
+	if (g.dims.includes('practice')) keys.push(sql`practice_code`);
+	const keyList = sql.join(keys);
+	return sql<MeasureRow & Record<string, unknown>>`
+		select ${keyList}, ${MEASURES} from rollup_cells where ${where(src, geoLevel, byPractice)}
+		group by ${keyList} order by ${keyList}`;
+}
+
+/** Totals per FY, read from the level that covers everything the grouping's cells cover. */
+export function totalsSql(src: CellSource): RawBuilder<MeasureRow & { fy: number }> {
+	const geoLevel = src.county ? 'county' : 'district';
+	return sql<MeasureRow & { fy: number }>`
+		select fy, ${MEASURES} from rollup_cells where ${where(src, geoLevel, !!src.practice)} group by fy order by fy`;
+}
+
+function notesFor(method: ReductionMethod, q: RollupQuery, startMonth: number, researcher: boolean, k: number): string[] {
+	const fyText =
+		q.fy_basis === 'federal'
+			? 'Fiscal years are federal: October 1 – September 30, named for the year in which they end (31 U.S.C. §1102).'
+			: `Fiscal years are the state's, starting in month ${startMonth} and named for the calendar year in which they end.`;
+	const notes = [
+		'These are estimates from a reduction method (efficiency × baseline loss × credited acres), not measured loads.',
+		fyText,
+		q.basis === 'in_service'
+			? 'In-service basis: a practice counts in every FY from its installation until its lifespan runs out or it is withdrawn, so sums across FYs count practice-years.'
+			: 'Installed basis: a practice counts only in the FY it was installed.',
+		'Estimates do not change from one FY to the next: practices stacked on a field are combined over the record’s life, and a withdrawn practice keeps the estimate it had while in service.',
+		'Records without an operation id count as one operation per district (the cautious reading for privacy).',
+		'Costs not reported count as $0; dollars per lb N divide the total cost by the mean N reduction per year (not annualised).',
+		...method.notes
+	];
+	if (researcher) {
+		notes.push(
+			`Small-cell rule: a county × FY × practice cell with fewer than ${k} distinct operations is generalised to its district's region, then to the state, or suppressed. Suppressed cells are left out of every row and total; totals give no operation count.`
+		);
+	}
+	return notes;
+}
+
+/**
+ * Runs a rollup for a principal. Returns `pending` (with progress) while the asked method's summary is
+ * being built, having asked for that build.
+ */
+export async function runRollup(db: Kysely<Database>, principal: Principal, q: RollupQuery): Promise<RollupOutcome> {
+	const version = q.method ?? (await activeMethodVersion(db));
+	if (!version) throw new ApiError({ status: 404, type: 'no-method', detail: 'No reduction method has been set up yet.' });
+	const method = await loadMethod(db, version);
+	if (!method) {
+		throw new ApiError({
+			status: 404,
+			type: 'unknown-method',
+			detail: `No reduction method version ${version}.`,
+			errors: [{ pointer: '#/query/method', detail: 'Unknown method version.' }]
+		});
+	}
+	const settings = await readSettings(db, [SETTING_KEYS.stateFyStartMonth, SETTING_KEYS.smallCellK, SETTING_KEYS.hubStateFips]);
+	const startMonth = stateFyStartMonthOf(settings.get(SETTING_KEYS.stateFyStartMonth));
+	const k = smallCellKOf(settings.get(SETTING_KEYS.smallCellK));
+	const researcher = principal.role === 'researcher';
+
+	// Scope before anything else: a district account sees its own district; researchers see no districts.
+	let districtId: number | null = null;
+	if (principal.role === 'district') {
+		if (principal.districtId === null) throw new ApiError({ status: 403, detail: 'This district account is not bound to a district.' });
+		if (q.district !== null && (await resolveDistrict(db, q.district)) !== principal.districtId) {
+			throw new ApiError({ status: 403, type: 'other-district', detail: 'A district account sees its own district only.' });
+		}
+		districtId = principal.districtId;
+	} else if (researcher) {
+		const errors = [];
+		if (q.district !== null) errors.push({ pointer: '#/query/district', detail: 'Researchers see county, regional and state aggregates, not districts.' });
+		if (q.groupings.some((g) => g.dims.join() !== 'fy,county,practice')) {
+			errors.push({ pointer: '#/query/group', detail: 'Researchers get the county,fy,practice grouping, with the small-cell rule applied.' });
+		}
+		if (errors.length) throw new ApiError({ status: 400, type: 'invalid-query', detail: 'This grouping or filter is not open to researchers.', errors });
+	} else if (q.district !== null) districtId = await resolveDistrict(db, q.district);
+
+	const state = await summaryState(db, version);
+	if (!isCurrent(state, startMonth)) {
+		await requestRebuild(db, version);
+		const now = await summaryState(db, version);
+		return {
+			kind: 'pending',
+			pending: {
+				status: now?.status === 'running' ? 'running' : 'pending',
+				method_version: version,
+				phase: now?.phase ?? null,
+				done: now?.done ?? 0,
+				total: now?.total ?? 0,
+				detail: `The summary for method ${version} is being built from the records; ask again shortly.`
+			}
+		};
+	}
+
+	const fy = q.fy ?? defaultFyRange(q.fy_basis, startMonth);
+	const src: CellSource = { methodVersion: version, fyBasis: q.fy_basis, basis: q.basis, fy, districtId, county: q.county, practice: q.practice };
+	const names = await lookups(db, String(settings.get(SETTING_KEYS.hubStateFips) ?? '19').padStart(2, '0'));
+	let smallCells: SmallCellCounts | null = null;
+	const groupings: RollupResponse['groupings'] = [];
+
+	if (researcher) {
+		const r = await researcherCells(db, src, k, names);
+		smallCells = r.counts;
+		groupings.push({ group: ['county', 'fy', 'practice'], cells: r.cells, totals: r.totals });
+	} else {
+		const totals = (await totalsSql(src).execute(db)).rows.map((t) => ({ fy: Number(t.fy), ...measures(t) }));
+		for (const g of q.groupings) {
+			const rows = (await groupingSql(g, src).execute(db)).rows;
+			const { geoLevel } = sourceLevel(g, src);
+			const cells: RollupCell[] = rows.map((r) => {
+				const cell: RollupCell = { fy: Number(r.fy), ...measures(r) };
+				if (g.dims.includes('district')) {
+					const d = names.districts.get(Number(r.district_id));
+					cell.district_id = Number(r.district_id);
+					cell.district_code = d?.code ?? String(r.district_id);
+					cell.district_name = d?.name ?? '';
+				}
+				if (g.dims.includes('county') && geoLevel === 'county') {
+					cell.county_fips = String(r.geo);
+					cell.county_name = names.counties.get(String(r.geo)) ?? null;
+				}
+				if (g.dims.includes('huc8')) cell.huc8 = r.geo === '' ? null : String(r.geo);
+				if (g.dims.includes('practice')) {
+					cell.practice_code = String(r.practice_code);
+					cell.practice_name = names.practices.get(String(r.practice_code)) ?? '';
+				}
+				return cell;
+			});
+			groupings.push({ group: g.dims, cells, totals });
+		}
+	}
+
+	return {
+		kind: 'ready',
+		method,
+		response: {
+			method_version: version,
+			fy_basis: q.fy_basis,
+			state_fy_start_month: startMonth,
+			basis: q.basis,
+			fy,
+			filters: {
+				district: districtId === null ? null : (names.districts.get(districtId)?.code ?? String(districtId)),
+				county: q.county,
+				practice: q.practice
+			},
+			refreshed_at: state?.finished_at ? new Date(state.finished_at).toISOString() : null,
+			groupings,
+			small_cells: smallCells,
+			notes: notesFor(method, q, startMonth, researcher, k)
+		}
+	};
+}
+
+// --- researchers: county × FY × practice with the small-cell rule ----------------------------------------
+
+const round = (x: number, d: number) => {
+	const f = 10 ** d;
+	return Math.round((x + Math.sign(x) * Number.EPSILON * Math.abs(x)) * f) / f;
+};
+
+async function researcherCells(db: Kysely<Database>, src: CellSource, k: number, names: Lookups) {
+	// Base cells over the whole state (the rule never depends on the county filter, so filtered and
+	// unfiltered answers publish the same rows).
+	const base = (
+		await sql<{
+			fy: number;
+			county_fips: string;
+			practice_code: string;
+			region: string;
+			operations: number;
+			practices: number;
+			credited_acres: string;
+			cost_usd: string;
+			cost_share_usd: string;
+			n_lb_mean: string;
+			n_lb_low: string;
+			n_lb_high: string;
+			p_lb_mean: string;
+			p_lb_low: string;
+			p_lb_high: string;
+		}>`
+			select c.fy, c.geo as county_fips, c.practice_code, min(d.region) as region,
+				sum(c.operations)::int as operations, sum(c.practices)::int as practices,
+				sum(c.credited_acres) as credited_acres, sum(c.cost_usd) as cost_usd, sum(c.cost_share_usd) as cost_share_usd,
+				sum(c.n_lb_mean) as n_lb_mean, sum(c.n_lb_low) as n_lb_low, sum(c.n_lb_high) as n_lb_high,
+				sum(c.p_lb_mean) as p_lb_mean, sum(c.p_lb_low) as p_lb_low, sum(c.p_lb_high) as p_lb_high
+			from rollup_cells c join districts d on d.id = c.district_id
+			where ${where({ ...src, county: null, districtId: null }, 'county', true)}
+			group by c.fy, c.geo, c.practice_code`.execute(db)
+	).rows;
+	const small = base.filter((c) => c.operations < k);
+	const keys = new Map<string, string[]>();
+	if (small.length > 0) {
+		const fb = src.fyBasis === 'federal' ? 'federal' : 'state';
+		const inCell =
+			src.basis === 'installed'
+				? sql`e.${sql.raw(fb)}_fy_installed = s.fy`
+				: sql`s.fy between e.${sql.raw(fb)}_fy_first and e.${sql.raw(fb)}_fy_last`;
+		const { rows } = await sql<{ county_fips: string; practice_code: string; fy: number; key: string }>`
+			with s as (select * from unnest(${small.map((c) => c.county_fips)}::text[], ${small.map((c) => c.practice_code)}::text[],
+				${small.map((c) => c.fy)}::int[]) as s(county_fips, practice_code, fy))
+			select distinct s.county_fips, s.practice_code, s.fy, e.district_id || ':' || e.operation_key as key
+			from s join record_estimates e on e.method_version = ${src.methodVersion} and e.county_fips = s.county_fips
+				and e.practice_code = s.practice_code and ${inCell}`.execute(db);
+		for (const r of rows) {
+			const id = `${r.county_fips}|${r.practice_code}|${r.fy}`;
+			const list = keys.get(id);
+			if (list) list.push(r.key);
+			else keys.set(id, [r.key]);
+		}
+	}
+	const cells: BaseCell[] = base.map((c) => ({
+		fy: Number(c.fy),
+		practice_code: c.practice_code,
+		county_fips: c.county_fips,
+		region: c.region,
+		operations: c.operations,
+		operation_keys: c.operations < k ? (keys.get(`${c.county_fips}|${c.practice_code}|${c.fy}`) ?? []) : null,
+		practices: c.practices,
+		credited_acres: Number(c.credited_acres),
+		cost_usd: Number(c.cost_usd),
+		cost_share_usd: Number(c.cost_share_usd),
+		n_lb_mean: Number(c.n_lb_mean),
+		n_lb_low: Number(c.n_lb_low),
+		n_lb_high: Number(c.n_lb_high),
+		p_lb_mean: Number(c.p_lb_mean),
+		p_lb_low: Number(c.p_lb_low),
+		p_lb_high: Number(c.p_lb_high)
+	}));
+	const { published, counts } = applySmallCellRule(cells, k);
+	const shown = published.filter((p) => !src.county || p.county_fips === src.county);
+	const levelOrder = { county: 0, region: 1, state: 2 } as const;
+	shown.sort(
+		(a, b) =>
+			a.fy - b.fy ||
+			levelOrder[a.level] - levelOrder[b.level] ||
+			(a.county_fips ?? a.region ?? '').localeCompare(b.county_fips ?? b.region ?? '') ||
+			a.practice_code.localeCompare(b.practice_code)
+	);
+	const toOut = (m: (typeof published)[number]) => ({
+		practices: m.practices,
+		credited_acres: round(m.credited_acres, 2),
+		cost_usd: round(m.cost_usd, 2),
+		cost_share_usd: round(m.cost_share_usd, 2),
+		n_lb_yr_mean: round(m.n_lb_mean, 1),
+		n_lb_yr_low: round(m.n_lb_low, 1),
+		n_lb_yr_high: round(m.n_lb_high, 1),
+		p_lb_yr_mean: round(m.p_lb_mean, 1),
+		p_lb_yr_low: round(m.p_lb_low, 1),
+		p_lb_yr_high: round(m.p_lb_high, 1),
+		usd_per_lb_n: m.n_lb_mean > 0 ? round(m.cost_usd / m.n_lb_mean, 2) : null
+	});
+	const out: RollupCell[] = shown.map((p) => ({
+		fy: p.fy,
+		county_fips: p.county_fips,
+		county_name: p.county_fips ? (names.counties.get(p.county_fips) ?? null) : null,
+		practice_code: p.practice_code,
+		practice_name: names.practices.get(p.practice_code) ?? '',
+		area_level: p.level,
+		area_name: p.level === 'county' ? (names.counties.get(p.county_fips!) ?? p.county_fips!) : p.level === 'region' ? p.region! : 'Statewide',
+		operations: p.operations,
+		...toOut(p)
+	}));
+	const byFy = new Map<number, (typeof published)[number]>();
+	for (const p of shown) {
+		const t = byFy.get(p.fy);
+		if (!t) byFy.set(p.fy, { ...p });
+		else for (const key of ['practices', 'credited_acres', 'cost_usd', 'cost_share_usd', 'n_lb_mean', 'n_lb_low', 'n_lb_high', 'p_lb_mean', 'p_lb_low', 'p_lb_high'] as const) t[key] += p[key];
+	}
+	const totals: RollupTotal[] = [...byFy.values()].sort((a, b) => a.fy - b.fy).map((t) => ({ fy: t.fy, operations: null, ...toOut(t) }));
+	return { cells: out, totals, counts };
+}

@@ -1,0 +1,36 @@
+// GET /api/v1/rollups — totals by county / HUC-8 / district × FY × practice, as JSON, CSV or XLSX.
+import { json } from '@sveltejs/kit';
+import { getDb } from '$lib/server/db';
+import { ApiError } from '$lib/server/http/problem';
+import { csvStream, exportFileName, xlsxStream, XLSX_TYPE } from '$lib/server/rollups/export';
+import { runRollup } from '$lib/server/rollups/query';
+import { parseRollupQuery } from '$lib/schema/rollups';
+import type { RequestHandler } from './$types';
+
+export const GET: RequestHandler = async ({ url, locals }) => {
+	const parsed = parseRollupQuery(url.searchParams);
+	if (!parsed.ok) throw new ApiError({ status: 400, type: 'invalid-query', detail: 'The query parameters are not valid.', errors: parsed.errors });
+	const principal = locals.principal!;
+	const outcome = await runRollup(getDb(), principal, parsed.query);
+	if (outcome.kind === 'pending') {
+		return json(outcome.pending, { status: 202, headers: { 'retry-after': '2', 'cache-control': 'no-store' } });
+	}
+	const researcher = principal.role === 'researcher';
+	const headers = { 'cache-control': 'private, no-store' };
+	switch (parsed.query.format) {
+		case 'csv':
+			return new Response(csvStream(outcome.response, researcher), {
+				headers: {
+					...headers,
+					'content-type': 'text/csv; charset=utf-8',
+					'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'csv')}"`
+				}
+			});
+		case 'xlsx':
+			return new Response(xlsxStream(outcome.response, outcome.method, researcher), {
+				headers: { ...headers, 'content-type': XLSX_TYPE, 'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'xlsx')}"` }
+			});
+		default:
+			return json(outcome.response, { headers });
+	}
+};

@@ -1,0 +1,116 @@
+// The summary maintained incrementally (each write recomputes only the cells it touches) equals a full
+// rebuild from all records, after any sequence of inserts, updates and withdrawals — including moves
+// between fields (stacking), counties and practices, and changed install dates (fast-check).
+import fc from 'fast-check';
+import { sql } from 'kysely';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { closeDb, getDb } from '$lib/server/db';
+import { getActiveMethodVersion } from '$lib/server/methods';
+import { rebuildMethod } from '$lib/server/rollups/refresh';
+import { createDistrict, insertRecords, updateRecords, type TestRecord } from '../helpers/rollup-fixtures';
+
+const db = getDb();
+let method = '';
+
+beforeAll(async () => {
+	method = await getActiveMethodVersion(db);
+	await rebuildMethod(db, method);
+});
+afterAll(() => closeDb());
+
+const COUNTIES = ['19001', '19003', '19005'];
+const arbRecord = fc.record({
+	practice_code: fc.constantFrom('605', '340', '554', '604', '656', '590'),
+	county_fips: fc.constantFrom(...COUNTIES),
+	installed_on: fc.date({ min: new Date('2016-01-01'), max: new Date('2027-12-31'), noInvalidDate: true }).map((d) => d.toISOString().slice(0, 10)),
+	acres: fc.integer({ min: 0, max: 400 }),
+	field_id: fc.option(fc.constantFrom('F1', 'F2', 'F3'), { nil: null }),
+	operation_id: fc.option(fc.constantFrom('op-a', 'op-b', 'op-c', 'op-d'), { nil: null }),
+	huc12: fc.option(fc.constantFrom('070801050101', '070801050202', '071000060303'), { nil: null }),
+	cost: fc.option(fc.integer({ min: 0, max: 5_000_000 }).map((c) => c / 100), { nil: null })
+});
+
+const command = fc.oneof(
+	fc.record({ kind: fc.constant('insert' as const), records: fc.array(arbRecord, { minLength: 1, maxLength: 4 }) }),
+	fc.record({ kind: fc.constant('update' as const), pick: fc.nat(), change: arbRecord }),
+	fc.record({ kind: fc.constant('move' as const), pick: fc.nat(), field_id: fc.option(fc.constantFrom('F1', 'F2', 'F3'), { nil: null }) }),
+	fc.record({
+		kind: fc.constant('withdraw' as const),
+		pick: fc.nat(),
+		on: fc.date({ min: new Date('2015-06-01'), max: new Date('2028-06-30'), noInvalidDate: true }).map((d) => d.toISOString().slice(0, 10))
+	})
+);
+
+type ArbRecord = typeof arbRecord extends fc.Arbitrary<infer T> ? T : never;
+
+function toRecord(localId: string, r: ArbRecord): TestRecord {
+	const edge = ['554', '604', '605', '656'].includes(r.practice_code);
+	return {
+		local_id: localId,
+		practice_code: r.practice_code,
+		county_fips: r.county_fips,
+		installed_on: r.installed_on,
+		extent_acres: edge ? null : r.acres,
+		drainage_area_acres: edge ? r.acres : null,
+		field_id: r.field_id,
+		operation_id: r.operation_id,
+		huc12: r.huc12,
+		cost_total_usd: r.cost,
+		cost_share_usd: r.cost === null ? null : Math.round(r.cost * 50) / 100
+	};
+}
+
+async function snapshot(districtId: number) {
+	const cells = await sql`select * from rollup_cells where method_version = ${method} and district_id = ${districtId}
+		order by fy_basis, basis, geo_level, fy, geo, practice_code`.execute(db);
+	const estimates = await sql`select record_id, counted, reason, credited_acres, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high,
+			county_fips, huc8, practice_code, field_id, operation_key, cost_usd, cost_share_usd, state_fy_installed, state_fy_first, state_fy_last,
+			federal_fy_installed, federal_fy_first, federal_fy_last
+		from record_estimates where method_version = ${method} and district_id = ${districtId} order by record_id`.execute(db);
+	return { cells: cells.rows, estimates: estimates.rows };
+}
+
+let run = 0;
+
+describe('incremental maintenance = full rebuild', () => {
+	it('after a random sequence of inserts, updates, field moves and withdrawals', async () => {
+		await fc.assert(
+			fc.asyncProperty(fc.array(command, { minLength: 1, maxLength: 14 }), async (commands) => {
+				run++;
+				const districtId = await createDistrict(db, `RTP${run}`, `Rollup property district ${run}`, 'Rollup Test Region', COUNTIES);
+				const ids: string[] = [];
+				let n = 0;
+				for (const c of commands) {
+					if (c.kind === 'insert') {
+						ids.push(...(await insertRecords(db, districtId, c.records.map((r) => toRecord(`P${run}-${n++}`, r)))));
+					} else if (ids.length > 0) {
+						const id = ids[c.pick % ids.length];
+						if (c.kind === 'update') {
+							const { local_id: _ignored, ...set } = toRecord('x', c.change);
+							await updateRecords(db, [{ id, set }]);
+						} else if (c.kind === 'move') await updateRecords(db, [{ id, set: { field_id: c.field_id } }]);
+						else await updateRecords(db, [{ id, set: { status: 'withdrawn', withdrawn_on: c.on } }]);
+					}
+				}
+				const incremental = await snapshot(districtId);
+				expect(incremental.estimates.length).toBe(ids.length);
+				await rebuildMethod(db, method);
+				const full = await snapshot(districtId);
+				expect(incremental.estimates).toEqual(full.estimates);
+				expect(incremental.cells).toEqual(full.cells);
+			}),
+			{ numRuns: 12 }
+		);
+	});
+
+	it('the summary is never read from the records: cells stay as stored when records change behind the hook', async () => {
+		const districtId = await createDistrict(db, 'RTQ', 'Rollup direct-write district', 'Rollup Test Region', COUNTIES);
+		const [id] = await insertRecords(db, districtId, [toRecord('Q1', { practice_code: '605', county_fips: '19001', installed_on: '2024-09-01', acres: 50, field_id: null, operation_id: 'op-a', huc12: null, cost: 100 })]);
+		const before = await snapshot(districtId);
+		// A write that skips the hook (not how the app writes): the summary does not move until a rebuild.
+		await db.updateTable('records').set({ drainage_area_acres: 500 }).where('id', '=', id).execute();
+		expect(await snapshot(districtId)).toEqual(before);
+		await rebuildMethod(db, method);
+		expect(await snapshot(districtId)).not.toEqual(before);
+	});
+});

@@ -1,0 +1,136 @@
+// Researcher rollups and the small-cell rule (dataset issue; Section 1619 of the Food, Conservation, and
+// Energy Act of 2008, 7 U.S.C. 8791(b): producers' information only in statistical or aggregate form).
+// Random scenarios are written in fiscal years no other test uses (the 1900s), so the ground truth —
+// distinct operations per county × FY × practice — is known from the scenario itself.
+import fc from 'fast-check';
+import request from 'supertest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { closeDb, getDb } from '$lib/server/db';
+import { getActiveMethodVersion } from '$lib/server/methods';
+import { rebuildMethod } from '$lib/server/rollups/refresh';
+import { appHandler, bearer, DEMO_TOKENS } from '../helpers/app';
+import { createDistrict, insertRecords } from '../helpers/rollup-fixtures';
+
+process.env.ROLLUP_POLL_MS = '3600000';
+const db = getDb();
+let north = 0;
+let south = 0;
+let southB = 0;
+let savedK: unknown;
+
+beforeAll(async () => {
+	await rebuildMethod(db, await getActiveMethodVersion(db));
+	savedK = (await db.selectFrom('settings').select('value').where('key', '=', 'small_cell_k').executeTakeFirst())?.value;
+	north = await createDistrict(db, 'RTN', 'Rollup researcher district North', 'RT North', ['19109', '19063']);
+	south = await createDistrict(db, 'RTS', 'Rollup researcher district South', 'RT South', ['19001', '19003']);
+	southB = await createDistrict(db, 'RTS2', 'Rollup researcher district South 2', 'RT South', ['19005']);
+});
+afterAll(async () => {
+	if (savedK === undefined) await db.deleteFrom('settings').where('key', '=', 'small_cell_k').execute();
+	else await db.updateTable('settings').set({ value: JSON.stringify(savedK) }).where('key', '=', 'small_cell_k').execute();
+	await closeDb();
+});
+
+const DISTRICT_COUNTIES = () =>
+	[
+		[north, '19109'],
+		[north, '19063'],
+		[south, '19001'],
+		[south, '19003'],
+		[southB, '19005']
+	] as const;
+
+const scenario = fc.record({
+	k: fc.integer({ min: 2, max: 5 }),
+	records: fc.array(
+		fc.record({
+			where: fc.nat({ max: 4 }),
+			practice_code: fc.constantFrom('605', '340'),
+			fyOffset: fc.integer({ min: 0, max: 1 }),
+			operation: fc.constantFrom('o1', 'o2', 'o3', 'o4', 'o5', 'o6', null),
+			acres: fc.integer({ min: 1, max: 200 })
+		}),
+		{ minLength: 1, maxLength: 40 }
+	)
+});
+
+let run = 0;
+
+describe('researcher rollups keep every published cell at k operations or more', () => {
+	it('over random scenarios', async () => {
+		const handler = await appHandler();
+		await fc.assert(
+			fc.asyncProperty(scenario, async ({ k, records }) => {
+				run++;
+				const fy0 = 1900 + run * 3; // a fresh pair of state FYs for each run
+				await db
+					.insertInto('settings')
+					.values({ key: 'small_cell_k', value: JSON.stringify(k) })
+					.onConflict((oc) => oc.column('key').doUpdateSet({ value: JSON.stringify(k) }))
+					.execute();
+				const truth = new Map<string, Set<string>>();
+				const byDistrict = new Map<number, Parameters<typeof insertRecords>[2]>();
+				records.forEach((r, i) => {
+					const [districtId, county] = DISTRICT_COUNTIES()[r.where];
+					const fy = fy0 + r.fyOffset;
+					const key = `${county}|${fy}|${r.practice_code}`;
+					if (!truth.has(key)) truth.set(key, new Set());
+					truth.get(key)!.add(`${districtId}:${r.operation ?? ''}`);
+					const list = byDistrict.get(districtId) ?? [];
+					list.push({
+						local_id: `R${run}-${i}`,
+						practice_code: r.practice_code,
+						county_fips: county,
+						installed_on: `${fy - 1}-09-15`, // state FY fy (July start)
+						extent_acres: r.practice_code === '340' ? r.acres : null,
+						drainage_area_acres: r.practice_code === '605' ? r.acres : null,
+						operation_id: r.operation
+					});
+					byDistrict.set(districtId, list);
+				});
+				for (const [d, list] of byDistrict) await insertRecords(db, d, list);
+
+				const res = await request(handler)
+					.get(`/api/v1/rollups?group=county,fy,practice&basis=installed&fy=${fy0}..${fy0 + 1}`)
+					.set(bearer(DEMO_TOKENS.researcher));
+				expect(res.status).toBe(200);
+				const s = res.body.small_cells;
+				expect(s.k).toBe(k);
+				expect(s.cells).toBe(truth.size);
+				expect(s.published_as_county + s.generalised_to_region + s.generalised_to_state + s.suppressed).toBe(truth.size);
+				const small = [...truth.entries()].filter(([, ops]) => ops.size < k);
+				expect(s.published_as_county).toBe(truth.size - small.length);
+				const cells = res.body.groupings[0].cells as Array<Record<string, unknown>>;
+				for (const c of cells) {
+					expect(c.operations as number).toBeGreaterThanOrEqual(k);
+					expect(Object.keys(c).some((key) => key.startsWith('district'))).toBe(false);
+					if (c.area_level === 'county') {
+						const ops = truth.get(`${c.county_fips}|${c.fy}|${c.practice_code}`)!;
+						expect(ops.size).toBeGreaterThanOrEqual(k);
+						expect(c.operations).toBe(ops.size);
+					} else {
+						expect(c.county_fips).toBeNull();
+						expect(['RT North', 'RT South', 'Statewide']).toContain(c.area_name);
+					}
+				}
+				for (const [key] of small) {
+					const [county, fy, practice] = key.split('|');
+					expect(cells.some((c) => c.county_fips === county && c.fy === Number(fy) && c.practice_code === practice)).toBe(false);
+				}
+				// Totals are the sum of what is published (suppressed cells stay out of them).
+				for (const t of res.body.groupings[0].totals) {
+					const inFy = cells.filter((c) => c.fy === t.fy);
+					expect(inFy.reduce((a, c) => a + (c.practices as number), 0)).toBe(t.practices);
+					expect(t.operations).toBeNull();
+				}
+				// The same rows whatever county is asked for: filtering never changes what is generalised.
+				const one = [...truth.keys()][0].split('|')[0];
+				const filtered = await request(handler)
+					.get(`/api/v1/rollups?group=county,fy,practice&basis=installed&fy=${fy0}..${fy0 + 1}&county=${one}`)
+					.set(bearer(DEMO_TOKENS.researcher));
+				expect(filtered.body.groupings[0].cells).toEqual(cells.filter((c) => c.county_fips === one));
+			}),
+			{ numRuns: 10 }
+		);
+	});
+});
