@@ -175,26 +175,50 @@ export function fundingCategory(program: string | null): FundingCategory {
 
 const round1 = (x: number): number => Math.round(x * 10) / 10;
 
-/** Distinct operations and whether one operation dominates the acres of a set of records. */
-export function cellStats(records: readonly SourceRecord[], dominance: number): { operations: number; dominated: boolean } {
-	const acresByOp = new Map<string, number>();
-	let total = 0;
-	for (const r of records) {
-		const a = Math.max(0, r.credited_acres ?? 0);
-		acresByOp.set(r.operation_key, (acresByOp.get(r.operation_key) ?? 0) + a);
-		total += a;
-	}
-	let top = 0;
-	for (const a of acresByOp.values()) top = Math.max(top, a);
-	return { operations: acresByOp.size, dominated: total > 0 && acresByOp.size > 1 && top / total > dominance };
+/** One operation's share of a cell (several records of one operation may be summed or given one by one). */
+export interface CellContribution {
+	method_version: string;
+	county_fips: string;
+	region: string;
+	state_fips: string;
+	fy_installed: number;
+	practice_code: string;
+	huc8: string | null;
+	operation_key: string;
+	acres: number;
+	/** How many records this contribution stands for (default 1). */
+	records?: number;
 }
 
-function passes(records: readonly SourceRecord[], k: number, dominance: number): boolean {
-	const s = cellStats(records, dominance);
+type OpAcres = Map<string, number>;
+
+/** Distinct operations and whether one operation holds more than `dominance` of the acres. */
+export function cellStats(ops: OpAcres, dominance: number): { operations: number; dominated: boolean } {
+	let total = 0;
+	let top = 0;
+	for (const a of ops.values()) {
+		total += a;
+		top = Math.max(top, a);
+	}
+	return { operations: ops.size, dominated: total > 0 && ops.size > 1 && top / total > dominance };
+}
+
+function passes(ops: OpAcres, k: number, dominance: number): boolean {
+	const s = cellStats(ops, dominance);
 	return s.operations >= k && !s.dominated;
 }
 
-function groupBy<T>(items: readonly T[], key: (t: T) => string): Map<string, T[]> {
+function addOp(into: OpAcres, op: string, acres: number): void {
+	into.set(op, (into.get(op) ?? 0) + Math.max(0, acres));
+}
+
+function mergeOps(cells: readonly { ops: OpAcres }[]): OpAcres {
+	const all: OpAcres = new Map();
+	for (const c of cells) for (const [op, a] of c.ops) addOp(all, op, a);
+	return all;
+}
+
+function groupBy<T>(items: Iterable<T>, key: (t: T) => string): Map<string, T[]> {
 	const m = new Map<string, T[]>();
 	for (const t of items) {
 		const kk = key(t);
@@ -203,6 +227,115 @@ function groupBy<T>(items: readonly T[], key: (t: T) => string): Map<string, T[]
 		else m.set(kk, [t]);
 	}
 	return m;
+}
+
+export type CellDecision = { level: AreaLevel; showHuc8: boolean } | null;
+export type CellLocator = Pick<SourceRecord, 'method_version' | 'county_fips' | 'fy_installed' | 'practice_code'>;
+
+export const baseCellKey = (c: CellLocator): string => `${c.method_version}|${c.county_fips}|${c.fy_installed}|${c.practice_code}`;
+
+interface Cell {
+	key: string;
+	first: CellContribution;
+	ops: OpAcres;
+	huc: Map<string, OpAcres>;
+	records: number;
+}
+
+function checkOptions(opts: { k?: number; dominance?: number }): { k: number; dominance: number } {
+	const k = opts.k ?? DEFAULT_K;
+	const dominance = opts.dominance ?? DEFAULT_DOMINANCE;
+	if (!Number.isInteger(k) || k < 1) throw new RangeError(`k is a whole number ≥ 1, not ${k}`);
+	if (!(dominance > 0 && dominance <= 1)) throw new RangeError(`dominance is a share in (0, 1], not ${dominance}`);
+	return { k, dominance };
+}
+
+/**
+ * The small-cell rule on cell contributions (the server feeds it an aggregate query, so the records
+ * themselves can be streamed afterwards). Returns each base cell's decision (null = suppressed) and counts.
+ */
+export function decideCells(
+	contributions: Iterable<CellContribution>,
+	opts: { k?: number; dominance?: number } = {}
+): { decisions: Map<string, CellDecision>; counts: AnonymiseCounts } {
+	const { k, dominance } = checkOptions(opts);
+	const counts: AnonymiseCounts = {
+		k,
+		dominance,
+		records: 0,
+		cells: 0,
+		published_as_county: 0,
+		generalised_to_region: 0,
+		generalised_to_state: 0,
+		suppressed: 0,
+		suppressed_records: 0,
+		dominated: 0,
+		huc8_withheld: 0
+	};
+	const cells = new Map<string, Cell>();
+	for (const c of contributions) {
+		const key = baseCellKey(c);
+		let cell = cells.get(key);
+		if (!cell) cells.set(key, (cell = { key, first: c, ops: new Map(), huc: new Map(), records: 0 }));
+		addOp(cell.ops, c.operation_key, c.acres);
+		const h = c.huc8 ?? '';
+		if (!cell.huc.has(h)) cell.huc.set(h, new Map());
+		addOp(cell.huc.get(h)!, c.operation_key, c.acres);
+		cell.records += c.records ?? 1;
+	}
+	counts.cells = cells.size;
+	const decisions = new Map<string, CellDecision>();
+	const small: Cell[] = [];
+	for (const cell of cells.values()) {
+		counts.records += cell.records;
+		const s = cellStats(cell.ops, dominance);
+		if (s.operations >= k && !s.dominated) {
+			counts.published_as_county++;
+			const showHuc8 = [...cell.huc.values()].every((g) => passes(g, k, dominance));
+			if (!showHuc8) counts.huc8_withheld++;
+			decisions.set(cell.key, { level: 'county', showHuc8 });
+		} else {
+			if (s.operations >= k) counts.dominated++;
+			small.push(cell);
+		}
+	}
+	// Pool the small cells of one method, FY and practice: by region first, then what is left across the state.
+	for (const [, group] of groupBy(small, (c) => `${c.first.method_version}|${c.first.fy_installed}|${c.first.practice_code}`)) {
+		const leftover: Cell[] = [];
+		for (const [, inRegion] of groupBy(group, (c) => c.first.region)) {
+			if (passes(mergeOps(inRegion), k, dominance)) {
+				counts.generalised_to_region += inRegion.length;
+				for (const c of inRegion) decisions.set(c.key, { level: 'region', showHuc8: false });
+			} else leftover.push(...inRegion);
+		}
+		for (const [, inState] of groupBy(leftover, (c) => c.first.state_fips)) {
+			if (passes(mergeOps(inState), k, dominance)) {
+				counts.generalised_to_state += inState.length;
+				for (const c of inState) decisions.set(c.key, { level: 'state', showHuc8: false });
+			} else {
+				counts.suppressed += inState.length;
+				for (const c of inState) {
+					counts.suppressed_records += c.records;
+					decisions.set(c.key, null);
+				}
+			}
+		}
+	}
+	return { decisions, counts };
+}
+
+export function contributionOf(r: SourceRecord): CellContribution {
+	return {
+		method_version: r.method_version,
+		county_fips: r.county_fips,
+		region: r.region,
+		state_fips: r.state_fips,
+		fy_installed: r.fy_installed,
+		practice_code: r.practice_code,
+		huc8: huc8Of(r.huc12),
+		operation_key: r.operation_key,
+		acres: r.credited_acres ?? 0
+	};
 }
 
 /** One record → its published row at the given area level (HUC-8 decided by the caller). */
@@ -244,71 +377,15 @@ export function publishedCellKey(row: Pick<DatasetRow, 'area_level' | 'county_fi
 }
 
 /**
- * Applies every rule to the records of one method version (records of several versions are handled
- * per version). Returns the rows in input order (suppressed ones left out) and the counts for the notes.
+ * Applies every rule to records held in memory (tests, small sets). Returns the rows in input order
+ * (suppressed ones left out) and the counts for the release notes.
  */
 export function anonymise(records: readonly SourceRecord[], opts: AnonymiseOptions): { rows: DatasetRow[]; counts: AnonymiseCounts } {
-	const k = opts.k ?? DEFAULT_K;
-	const dominance = opts.dominance ?? DEFAULT_DOMINANCE;
-	if (!Number.isInteger(k) || k < 1) throw new RangeError(`k is a whole number ≥ 1, not ${k}`);
-	if (!(dominance > 0 && dominance <= 1)) throw new RangeError(`dominance is a share in (0, 1], not ${dominance}`);
-	const counts: AnonymiseCounts = {
-		k,
-		dominance,
-		records: records.length,
-		cells: 0,
-		published_as_county: 0,
-		generalised_to_region: 0,
-		generalised_to_state: 0,
-		suppressed: 0,
-		suppressed_records: 0,
-		dominated: 0,
-		huc8_withheld: 0
-	};
-	const decided = new Map<SourceRecord, { level: AreaLevel; huc8: string | null }>();
-	for (const [, version] of groupBy(records, (r) => r.method_version)) {
-		const cells = groupBy(version, (r) => `${r.county_fips}|${r.fy_installed}|${r.practice_code}`);
-		counts.cells += cells.size;
-		const small: SourceRecord[][] = [];
-		for (const [, cell] of cells) {
-			const s = cellStats(cell, dominance);
-			if (s.operations >= k && !s.dominated) {
-				counts.published_as_county++;
-				const byHuc = groupBy(cell, (r) => huc8Of(r.huc12) ?? '');
-				const hucOk = [...byHuc.values()].every((g) => passes(g, k, dominance));
-				if (!hucOk && byHuc.size > 0 && [...byHuc.keys()].some((h) => h !== '')) counts.huc8_withheld++;
-				for (const r of cell) decided.set(r, { level: 'county', huc8: hucOk ? huc8Of(r.huc12) : null });
-			} else {
-				if (s.operations >= k) counts.dominated++;
-				small.push(cell);
-			}
-		}
-		// Pool the small cells of one FY and practice: by region first, then what is left across the state.
-		for (const [, group] of groupBy(small, (c) => `${c[0].fy_installed}|${c[0].practice_code}`)) {
-			const leftover: SourceRecord[][] = [];
-			for (const [, inRegion] of groupBy(group, (c) => c[0].region)) {
-				if (passes(inRegion.flat(), k, dominance)) {
-					counts.generalised_to_region += inRegion.length;
-					for (const r of inRegion.flat()) decided.set(r, { level: 'region', huc8: null });
-				} else leftover.push(...inRegion);
-			}
-			if (leftover.length === 0) continue;
-			// The state is one area per hub; group by state in case records of several states are mixed.
-			for (const [, inState] of groupBy(leftover, (c) => c[0].state_fips)) {
-				if (passes(inState.flat(), k, dominance)) {
-					counts.generalised_to_state += inState.length;
-					for (const r of inState.flat()) decided.set(r, { level: 'state', huc8: null });
-				} else {
-					counts.suppressed += inState.length;
-					counts.suppressed_records += inState.flat().length;
-				}
-			}
-		}
-	}
+	const { decisions, counts } = decideCells(records.map(contributionOf), opts);
 	const rows: DatasetRow[] = [];
 	for (const r of records) {
-		const d = decided.get(r);
-		if (d) rows.push(toRow(r, d.level, d.huc8, opts.pseudonym));
+		const d = decisions.get(baseCellKey(r));
+		if (d) rows.push(toRow(r, d.level, d.showHuc8 ? huc8Of(r.huc12) : null, opts.pseudonym));
 	}
 	return { rows, counts };
 }
