@@ -67,6 +67,8 @@ export interface UsersTable {
 	password_hash: string | null;
 	active: Generated<boolean>;
 	created_at: Generated<Date>;
+	/** The researcher does not want the new-release e-mail (dataset). */
+	release_mail_opt_out: Generated<boolean>;
 }
 
 export interface ApiTokensTable {
@@ -336,6 +338,22 @@ export interface RollupRefreshTable {
 	updated_at: Generated<Date>;
 }
 
+// --- research dataset releases ---------------------------------------------------------------------
+export interface DatasetReleasesTable {
+	version: string;
+	status: 'published' | 'withdrawn';
+	notes: string;
+	method_version: string;
+	row_count: number;
+	small_cells: ColumnType<Record<string, unknown>, string, string>;
+	manifest: ColumnType<Record<string, unknown>, string, string>;
+	manifest_jws: string;
+	published_by: string;
+	published_at: Generated<Date>;
+	withdrawn_reason: string | null;
+	withdrawn_at: Timestamp | null;
+}
+
 export interface Database {
 	settings: SettingsTable;
 	counties: CountiesTable;
@@ -358,6 +376,7 @@ export interface Database {
 	record_estimates: RecordEstimatesTable;
 	rollup_cells: RollupCellsTable;
 	rollup_refresh: RollupRefreshTable;
+	dataset_releases: DatasetReleasesTable;
 }
 
 export type District = Selectable<DistrictsTable>;
