@@ -52,6 +52,10 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/records/[district]/[local_id]': { PUT: scope('records:write') },
 	// OAuth client credentials: the client authenticates inside the request (RFC 6749 §2.3.1).
 	'/api/v1/oauth/token': { POST: publicAccess },
+	'/api/v1/dataset/releases': { GET: scope('dataset:read'), POST: scope('dataset:read') },
+	'/api/v1/dataset/releases/[version]': { GET: scope('dataset:read') },
+	'/api/v1/dataset/releases/[version]/files/[name]': { GET: scope('dataset:read') },
+	'/api/v1/dataset/releases/[version]/withdraw': { POST: scope('dataset:read') },
 	'/api/v1/dataset/records': { GET: scope('dataset:read') },
 	'/api/v1/rollups': { GET: scope('rollups:read') }
 };
