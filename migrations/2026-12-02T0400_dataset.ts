@@ -7,7 +7,12 @@ export async function up(db: Kysely<any>): Promise<void> {
 	await db.schema
 		.createTable('dataset_releases')
 		.addColumn('version', 'text', (c) => c.primaryKey())
-		.addColumn('status', 'text', (c) => c.notNull().defaultTo('published').check(sql`status in ('published', 'withdrawn')`))
+		.addColumn('status', 'text', (c) =>
+			c
+				.notNull()
+				.defaultTo('published')
+				.check(sql`status in ('published', 'withdrawn')`)
+		)
 		.addColumn('notes', 'text', (c) => c.notNull().defaultTo(''))
 		.addColumn('method_version', 'text', (c) => c.notNull())
 		.addColumn('row_count', 'integer', (c) => c.notNull())
@@ -21,7 +26,10 @@ export async function up(db: Kysely<any>): Promise<void> {
 		.addCheckConstraint('dataset_releases_version_format', sql`version ~ '^[0-9]{4}\\.[1-9][0-9]*$'`)
 		.addCheckConstraint('dataset_releases_withdrawn', sql`(status = 'withdrawn') = (withdrawn_reason is not null)`)
 		.execute();
-	await db.schema.alterTable('users').addColumn('release_mail_opt_out', 'boolean', (c) => c.notNull().defaultTo(false)).execute();
+	await db.schema
+		.alterTable('users')
+		.addColumn('release_mail_opt_out', 'boolean', (c) => c.notNull().defaultTo(false))
+		.execute();
 	await sql`create index record_estimates_method_record_idx on record_estimates (method_version, record_id)`.execute(db);
 }
 

@@ -37,3 +37,17 @@ export async function forbiddenValues(db: Kysely<Database>): Promise<string[]> {
 		union select c->>'email' from districts, jsonb_array_elements(contacts) c`.execute(db);
 	return [...new Set(rows.rows.map((r) => r.v).filter((v): v is string => !!v && v.length >= 5))];
 }
+
+/**
+ * The forbidden values found in a text output as whole fields (CSV cells, JSON strings and numbers, XLSX
+ * cell values, Markdown table cells), so a scan over a large release stays linear in the text.
+ */
+export function leakedValues(text: string, values: readonly string[]): string[] {
+	const tokens = new Set(
+		text
+			.split(/[,\n\r"{}[\]:|\t]/)
+			.map((t) => t.trim())
+			.filter((t) => t.length >= 5)
+	);
+	return values.filter((v) => tokens.has(v.trim()));
+}

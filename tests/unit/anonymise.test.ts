@@ -91,7 +91,9 @@ describe('small cells', () => {
 		expect(counts).toMatchObject({ cells: 1, published_as_county: 1, suppressed: 0 });
 	});
 	it('counts distinct operations, not records', () => {
-		const { rows, counts } = anonymise([rec({ operation_key: 'x' }), rec({ operation_key: 'x' }), rec({ operation_key: 'y' })], { pseudonym });
+		const { rows, counts } = anonymise([rec({ operation_key: 'x' }), rec({ operation_key: 'x' }), rec({ operation_key: 'y' })], {
+			pseudonym
+		});
 		expect(rows).toHaveLength(0);
 		expect(counts.suppressed).toBe(1);
 		expect(counts.suppressed_records).toBe(3);
@@ -106,7 +108,9 @@ describe('small cells', () => {
 		];
 		const { rows, counts } = anonymise(input, { pseudonym });
 		expect(rows.filter((r) => r.area_level === 'region')).toHaveLength(3);
-		expect(rows.filter((r) => r.area_level === 'region').every((r) => r.county_fips === null && r.huc8 === null && r.region === 'South')).toBe(true);
+		expect(
+			rows.filter((r) => r.area_level === 'region').every((r) => r.county_fips === null && r.huc8 === null && r.region === 'South')
+		).toBe(true);
 		// East and West alone have 2 operations: fewer than k at the state level too → suppressed.
 		expect(counts).toMatchObject({ generalised_to_region: 3, generalised_to_state: 0, suppressed: 2 });
 		const withState = anonymise([...input, rec({ county_fips: '19015', region: 'North' })], { pseudonym });
@@ -176,7 +180,9 @@ describe('property: after the rule no published cell has fewer than k distinct o
 				for (const ops of opsByHuc.values()) expect(ops.size).toBeGreaterThanOrEqual(k);
 				// Nothing lost silently: published + suppressed records = all records.
 				expect(rows.length + counts.suppressed_records).toBe(input.length);
-				expect(counts.published_as_county + counts.generalised_to_region + counts.generalised_to_state + counts.suppressed).toBe(counts.cells);
+				expect(counts.published_as_county + counts.generalised_to_region + counts.generalised_to_state + counts.suppressed).toBe(
+					counts.cells
+				);
 			}),
 			{ numRuns: 300 }
 		);

@@ -371,7 +371,9 @@ export function toRow(r: SourceRecord, level: AreaLevel, huc8: string | null, ps
 }
 
 /** The cell a published row belongs to: its area × FY × practice (what a linker can group on). */
-export function publishedCellKey(row: Pick<DatasetRow, 'area_level' | 'county_fips' | 'region' | 'state_fips' | 'fy_installed' | 'practice_code' | 'method_version'>): string {
+export function publishedCellKey(
+	row: Pick<DatasetRow, 'area_level' | 'county_fips' | 'region' | 'state_fips' | 'fy_installed' | 'practice_code' | 'method_version'>
+): string {
 	const area = row.area_level === 'county' ? row.county_fips : row.area_level === 'region' ? row.region : row.state_fips;
 	return `${row.method_version}|${row.area_level}:${area}|${row.fy_installed}|${row.practice_code}`;
 }

@@ -6,17 +6,26 @@ import { DATASET_COLUMNS } from '../domain/anonymise';
 const desc = (s: z.ZodType, description: string, unit?: string) => s.meta({ description, ...(unit ? { 'x-unit': unit } : {}) });
 
 export const DatasetRowSchema = z.object({
-	pid: desc(z.string(), 'Pseudonymous record id: HMAC-SHA-256 of the record id under a server secret (hex). Stable across releases; cannot be linked back without the secret.'),
+	pid: desc(
+		z.string(),
+		'Pseudonymous record id: HMAC-SHA-256 of the record id under a server secret (hex). Stable across releases; cannot be linked back without the secret.'
+	),
 	practice_code: desc(z.string(), 'National conservation practice standard number.'),
 	practice_name: desc(z.string(), 'Practice name.'),
-	area_level: desc(z.enum(['county', 'region', 'state']), 'Finest location published for this row: county, or generalised to the region or the state by the small-cell rule.'),
+	area_level: desc(
+		z.enum(['county', 'region', 'state']),
+		'Finest location published for this row: county, or generalised to the region or the state by the small-cell rule.'
+	),
 	county_fips: desc(z.string().nullable(), 'Census county FIPS code (5 digits); empty when the row is generalised.'),
 	region: desc(z.string().nullable(), "The district's region; set only when area_level = region."),
 	state_fips: desc(z.string(), 'Census state FIPS code (2 digits).'),
 	huc8: desc(z.string().nullable(), 'HUC-8 subbasin; empty when generalised or when a HUC-8 group of the cell is small.'),
 	install_year: desc(z.number().int(), 'Calendar year of installation.'),
 	install_month: desc(z.number().int().min(1).max(12), 'Month of installation (1–12); exact dates are never published.'),
-	fy_installed: desc(z.number().int(), 'State fiscal year of installation (named for the year it ends); the small-cell rule works on this FY.'),
+	fy_installed: desc(
+		z.number().int(),
+		'State fiscal year of installation (named for the year it ends); the small-cell rule works on this FY.'
+	),
 	fy_in_service_first: desc(z.number().int().nullable(), 'First state fiscal year in service.'),
 	fy_in_service_last: desc(z.number().int().nullable(), 'Last state fiscal year in service (lifespan or withdrawal).'),
 	credited_acres: desc(z.number(), 'Credited acres, rounded: to the acre below 100 acres, to 5 acres from 100 acres up.', 'ac'),
@@ -66,8 +75,14 @@ export const DATASET_FORMATS = ['json', 'csv', 'ndjson'] as const;
 
 export const DatasetQuery = z.object({
 	fy: z.coerce.number().int().min(1800).max(2200).optional(),
-	practice: z.string().regex(/^[0-9A-Za-z-]{1,10}$/, 'a practice code').optional(),
-	county: z.string().regex(/^\d{5}$/, 'a 5-digit county FIPS code').optional(),
+	practice: z
+		.string()
+		.regex(/^[0-9A-Za-z-]{1,10}$/, 'a practice code')
+		.optional(),
+	county: z
+		.string()
+		.regex(/^\d{5}$/, 'a 5-digit county FIPS code')
+		.optional(),
 	format: z.enum(DATASET_FORMATS).optional(),
 	limit: z.string().optional(),
 	cursor: z.string().optional()

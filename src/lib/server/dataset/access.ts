@@ -7,7 +7,11 @@ import { ApiError } from '../http/problem';
 export function requireReleaseManager(p: Principal | null | undefined): Principal {
 	if (!p) throw new ApiError({ status: 401, detail: 'Sign in or send a token.' });
 	if (p.role !== 'manager' && p.role !== 'admin') {
-		throw new ApiError({ status: 403, type: 'role-required', detail: 'Only a state program manager or an administrator may publish or withdraw a release.' });
+		throw new ApiError({
+			status: 403,
+			type: 'role-required',
+			detail: 'Only a state program manager or an administrator may publish or withdraw a release.'
+		});
 	}
 	return p;
 }

@@ -33,7 +33,12 @@ export function takeRateLimit(key: string, now = Date.now()): Record<string, str
 			status: 429,
 			type: 'rate-limited',
 			detail: `This token may make ${limit} dataset requests per ${windowSeconds} s; try again in ${reset} s.`,
-			headers: { 'retry-after': String(reset), 'ratelimit-limit': String(limit), 'ratelimit-remaining': '0', 'ratelimit-reset': String(reset) }
+			headers: {
+				'retry-after': String(reset),
+				'ratelimit-limit': String(limit),
+				'ratelimit-remaining': '0',
+				'ratelimit-reset': String(reset)
+			}
 		});
 	}
 	w.used++;

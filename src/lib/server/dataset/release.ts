@@ -109,7 +109,17 @@ export function releaseReadme(m: Omit<ReleaseManifest, 'files'>, notes: string, 
 export async function listReleases(db: Kysely<Database>) {
 	return db
 		.selectFrom('dataset_releases')
-		.select(['version', 'status', 'notes', 'method_version', 'row_count', 'small_cells', 'published_at', 'withdrawn_reason', 'withdrawn_at'])
+		.select([
+			'version',
+			'status',
+			'notes',
+			'method_version',
+			'row_count',
+			'small_cells',
+			'published_at',
+			'withdrawn_reason',
+			'withdrawn_at'
+		])
 		.orderBy('published_at', 'desc')
 		.execute();
 }
@@ -121,9 +131,17 @@ export async function getRelease(db: Kysely<Database>, version: string) {
 }
 
 /** Builds, stores, signs and records a release; mails the researchers. */
-export async function publishRelease(db: Kysely<Database>, input: { version: string; notes: string; actor: string; origin: string }): Promise<ReleaseManifest> {
+export async function publishRelease(
+	db: Kysely<Database>,
+	input: { version: string; notes: string; actor: string; origin: string }
+): Promise<ReleaseManifest> {
 	const exists = await db.selectFrom('dataset_releases').select('version').where('version', '=', input.version).executeTakeFirst();
-	if (exists) throw new ApiError({ status: 409, type: 'release-exists', detail: `Release ${input.version} exists; releases never change. Use the next version.` });
+	if (exists)
+		throw new ApiError({
+			status: 409,
+			type: 'release-exists',
+			detail: `Release ${input.version} exists; releases never change. Use the next version.`
+		});
 	const dir = await mkdtemp(path.join(tmpdir(), 'runnel-release-'));
 	try {
 		const published_at = new Date().toISOString();
@@ -134,7 +152,11 @@ export async function publishRelease(db: Kysely<Database>, input: { version: str
 				const ctx = await datasetContext(trx);
 				const csv = createWriteStream(path.join(dir, 'dataset.csv'));
 				const nd = createWriteStream(path.join(dir, 'dataset.ndjson'));
-				const wb = new ExcelJS.stream.xlsx.WorkbookWriter({ filename: path.join(dir, 'dataset.xlsx'), useStyles: false, useSharedStrings: false });
+				const wb = new ExcelJS.stream.xlsx.WorkbookWriter({
+					filename: path.join(dir, 'dataset.xlsx'),
+					useStyles: false,
+					useSharedStrings: false
+				});
 				const ws = wb.addWorksheet('dataset');
 				ws.columns = DATASET_COLUMNS.map((c) => ({ header: c, key: c }));
 				await write(csv, csvHeader());
@@ -165,7 +187,10 @@ export async function publishRelease(db: Kysely<Database>, input: { version: str
 		const { stringify } = await import('csv-stringify/sync');
 		await writeFile(
 			path.join(dir, 'data-dictionary.csv'),
-			stringify([['column', 'type', 'nullable', 'unit', 'description', 'values'], ...dict.map((d) => [d.column, d.type, String(d.nullable), d.unit ?? '', d.description, (d.values ?? []).join('|')])])
+			stringify([
+				['column', 'type', 'nullable', 'unit', 'description', 'values'],
+				...dict.map((d) => [d.column, d.type, String(d.nullable), d.unit ?? '', d.description, (d.values ?? []).join('|')])
+			])
 		);
 		const head = { version: input.version, published_at, method_version: ctx.methodVersion, row_count: rowCount, small_cells: ctx.counts };
 		await writeFile(path.join(dir, 'README.md'), releaseReadme(head, input.notes, input.origin));
@@ -181,7 +206,11 @@ export async function publishRelease(db: Kysely<Database>, input: { version: str
 		await writeFile(path.join(dir, 'manifest.jws'), jws);
 		const store = await getObjectStore();
 		for (const name of [...RELEASE_FILES, 'manifest.json', 'manifest.jws']) {
-			await store.putFile(objectKey(input.version, name), path.join(dir, name), MEDIA[name] ?? (name.endsWith('.jws') ? 'application/jose' : 'application/json'));
+			await store.putFile(
+				objectKey(input.version, name),
+				path.join(dir, name),
+				MEDIA[name] ?? (name.endsWith('.jws') ? 'application/jose' : 'application/json')
+			);
 		}
 		await db.transaction().execute(async (trx) => {
 			await trx

@@ -114,7 +114,13 @@ interface SourceRow {
 }
 
 /** One batch of source rows after `afterId` (record id order), filtered. */
-export async function sourceBatch(db: Kysely<Database>, ctx: DatasetContext, filter: DatasetFilter, afterId: string | null, limit: number): Promise<SourceRow[]> {
+export async function sourceBatch(
+	db: Kysely<Database>,
+	ctx: DatasetContext,
+	filter: DatasetFilter,
+	afterId: string | null,
+	limit: number
+): Promise<SourceRow[]> {
 	const where = [sql`e.method_version = ${ctx.methodVersion}`, INCLUDED];
 	if (afterId) where.push(sql`e.record_id > ${afterId}::bigint`);
 	if (filter.practice) where.push(sql`e.practice_code = ${filter.practice}`);
@@ -167,7 +173,12 @@ export function publish(ctx: DatasetContext, s: SourceRow, filter: DatasetFilter
 }
 
 /** Every published row of the filtered dataset, in batches (memory stays flat however many rows). */
-export async function* datasetRows(db: Kysely<Database>, ctx: DatasetContext, filter: DatasetFilter = {}, batch = 5000): AsyncGenerator<DatasetRow> {
+export async function* datasetRows(
+	db: Kysely<Database>,
+	ctx: DatasetContext,
+	filter: DatasetFilter = {},
+	batch = 5000
+): AsyncGenerator<DatasetRow> {
 	let after: string | null = null;
 	for (;;) {
 		const rows = await sourceBatch(db, ctx, filter, after, batch);

@@ -10,12 +10,20 @@ import type { RequestHandler } from './$types';
 
 export const GET: RequestHandler = async () => {
 	const rows = await listReleases(getDb());
-	return json({ data: rows.map((r) => ({ ...r, links: { self: `/api/v1/dataset/releases/${r.version}` } })) }, { headers: { 'cache-control': 'no-store' } });
+	return json(
+		{ data: rows.map((r) => ({ ...r, links: { self: `/api/v1/dataset/releases/${r.version}` } })) },
+		{ headers: { 'cache-control': 'no-store' } }
+	);
 };
 
 export const POST: RequestHandler = async ({ request, locals, url }) => {
 	const principal = requireReleaseManager(locals.principal);
 	const body = await readJsonBody(request, CreateRelease);
-	const manifest = await publishRelease(getDb(), { version: body.version, notes: body.notes, actor: actorOf(principal), origin: url.origin });
+	const manifest = await publishRelease(getDb(), {
+		version: body.version,
+		notes: body.notes,
+		actor: actorOf(principal),
+		origin: url.origin
+	});
 	return json(manifest, { status: 201, headers: { location: `/api/v1/dataset/releases/${body.version}` } });
 };

@@ -12,7 +12,11 @@ export const GET: RequestHandler = async ({ params }) => {
 	const r = await getRelease(getDb(), params.version);
 	const file = (r.manifest.files as { name: string; media_type: string; bytes: number }[]).find((f) => f.name === params.name);
 	if (!file && !EXTRA[params.name]) {
-		throw new ApiError({ status: 404, type: 'not-found', detail: `Release ${r.version} has no file ${params.name}; its files: ${[...RELEASE_FILES, ...Object.keys(EXTRA)].join(', ')}.` });
+		throw new ApiError({
+			status: 404,
+			type: 'not-found',
+			detail: `Release ${r.version} has no file ${params.name}; its files: ${[...RELEASE_FILES, ...Object.keys(EXTRA)].join(', ')}.`
+		});
 	}
 	const body = await (await getObjectStore()).get(objectKey(r.version, params.name));
 	const headers: Record<string, string> = {
