@@ -97,9 +97,7 @@ export async function up(db: Kysely<any>): Promise<void> {
 	await db.schema
 		.createTable('rollup_refresh')
 		.addColumn('method_version', 'text', (c) => c.primaryKey())
-		.addColumn('status', 'text', (c) =>
-			c.notNull().check(sql`status in ('pending', 'running', 'ready', 'stale', 'failed')`)
-		)
+		.addColumn('status', 'text', (c) => c.notNull().check(sql`status in ('pending', 'running', 'ready', 'stale', 'failed')`))
 		.addColumn('state_fy_start_month', 'smallint')
 		.addColumn('phase', 'text')
 		.addColumn('done', 'integer', (c) => c.notNull().defaultTo(0))

@@ -56,7 +56,13 @@ export async function run(): Promise<void> {
 	const token = 'rnl_bench_manager_token';
 	await db
 		.insertInto('api_tokens')
-		.values({ user_id: user.id, name: 'bench', token_hash: hashToken(token), display_prefix: 'rnl_benc', scopes: ['records:read', 'rollups:read'] })
+		.values({
+			user_id: user.id,
+			name: 'bench',
+			token_hash: hashToken(token),
+			display_prefix: 'rnl_benc',
+			scopes: ['records:read', 'rollups:read']
+		})
 		.execute();
 
 	log(`Generating ${N.toLocaleString('en-US')} records…`);
@@ -98,7 +104,8 @@ export async function run(): Promise<void> {
 	log(`Building the summary for method ${version} from all records…`);
 	t = performance.now();
 	await rebuildMethod(db, version, (p) => {
-		if (p.done === p.total || p.done % 100_000 < 5000) log(`  ${p.phase} ${p.done.toLocaleString('en-US')} / ${p.total.toLocaleString('en-US')}`);
+		if (p.done === p.total || p.done % 100_000 < 5000)
+			log(`  ${p.phase} ${p.done.toLocaleString('en-US')} / ${p.total.toLocaleString('en-US')}`);
 	});
 	const fullMs = performance.now() - t;
 	await sql`analyze`.execute(db);
@@ -111,7 +118,15 @@ export async function run(): Promise<void> {
 	const origin = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
 	const query = 'group=county,fy&fy=2016..2027&basis=in_service';
 	const grouping = parseGrouping('county,fy');
-	const src = { methodVersion: version, fyBasis: 'state' as const, basis: 'in_service' as const, fy: { from: 2016, to: 2027 }, districtId: null, county: null, practice: null };
+	const src = {
+		methodVersion: version,
+		fyBasis: 'state' as const,
+		basis: 'in_service' as const,
+		fy: { from: 2016, to: 2027 },
+		districtId: null,
+		county: null,
+		practice: null
+	};
 	const api = async () => {
 		const s = performance.now();
 		const res = await fetch(`${origin}/api/v1/rollups?${query}`, { headers: { authorization: `Bearer ${token}` } });
@@ -171,7 +186,9 @@ export async function run(): Promise<void> {
 	const batch = async (round: number) => {
 		const district = await db.selectFrom('districts').select('id').where('code', '=', 'D153').executeTakeFirstOrThrow();
 		const existing = (
-			await sql<{ id: string }>`select id::text as id from records where district_id = ${district.id} order by id limit 2000 offset ${round * 2000}`.execute(db)
+			await sql<{
+				id: string;
+			}>`select id::text as id from records where district_id = ${district.id} order by id limit 2000 offset ${round * 2000}`.execute(db)
 		).rows.map((r) => r.id);
 		return db.transaction().execute(async (trx) => {
 			const s = performance.now();
@@ -217,10 +234,23 @@ export async function run(): Promise<void> {
 			});
 			const ids: string[] = [];
 			for (let i = 0; i < rows.length; i += 1000) {
-				const ins = await trx.insertInto('records').values(rows.slice(i, i + 1000)).returning(['id', 'data']).execute();
+				const ins = await trx
+					.insertInto('records')
+					.values(rows.slice(i, i + 1000))
+					.returning(['id', 'data'])
+					.execute();
 				await trx
 					.insertInto('record_versions')
-					.values(ins.map((r) => ({ record_id: r.id, version: 1, data: JSON.stringify(r.data), changed_fields: [], batch_id: null, actor: 'bench' })))
+					.values(
+						ins.map((r) => ({
+							record_id: r.id,
+							version: 1,
+							data: JSON.stringify(r.data),
+							changed_fields: [],
+							batch_id: null,
+							actor: 'bench'
+						}))
+					)
 					.execute();
 				ids.push(...ins.map((r) => String(r.id)));
 			}
@@ -228,7 +258,9 @@ export async function run(): Promise<void> {
 					version = r.version + 1, data = r.data || jsonb_build_object('changed', ${round}), updated_at = now()
 				where r.id = any(${existing}::bigint[])`.execute(trx);
 			await sql`insert into record_versions (record_id, version, data, changed_fields, actor)
-				select id, version, data, array['extent_acres', 'drainage_area_acres'], 'bench' from records where id = any(${existing}::bigint[])`.execute(trx);
+				select id, version, data, array['extent_acres', 'drainage_area_acres'], 'bench' from records where id = any(${existing}::bigint[])`.execute(
+				trx
+			);
 			const write = performance.now() - s;
 			const r0 = performance.now();
 			await refreshRecords(trx, [...ids, ...existing]);
@@ -243,8 +275,12 @@ export async function run(): Promise<void> {
 	const c = median(batches.map((x) => x.refresh)) / median(batches.map((x) => x.write));
 	console.log(`\nRollups benchmark — ${N.toLocaleString('en-US')} records, 99 counties, state FY2016–FY2027, method ${version}`);
 	console.log(`  setup: generate ${ms(genMs)}, full summary build ${ms(fullMs)} (${cells.toLocaleString('en-US')} cells)`);
-	console.log(`  (a) API median ${ms(median(apiTimes))} (${apiCells} cells) ÷ bare summary read ${ms(median(bareTimes))} = ${a.toFixed(2)}   (target ≤ 2)`);
-	console.log(`  (b) naive GROUP BY over records ${ms(median(naiveTimes))} (${naiveCells} cells) ÷ summary read = ${b.toFixed(1)}   (expect ≥ 20)`);
+	console.log(
+		`  (a) API median ${ms(median(apiTimes))} (${apiCells} cells) ÷ bare summary read ${ms(median(bareTimes))} = ${a.toFixed(2)}   (target ≤ 2)`
+	);
+	console.log(
+		`  (b) naive GROUP BY over records ${ms(median(naiveTimes))} (${naiveCells} cells) ÷ summary read = ${b.toFixed(1)}   (expect ≥ 20)`
+	);
 	console.log(
 		`  (c) refresh after a 10,000-row batch ${ms(median(batches.map((x) => x.refresh)))} ÷ its record writes ${ms(median(batches.map((x) => x.write)))} = ${c.toFixed(2)}   (target ≤ 0.1)`
 	);

@@ -22,12 +22,17 @@ const COUNTIES = ['19001', '19003', '19005'];
 const arbRecord = fc.record({
 	practice_code: fc.constantFrom('605', '340', '554', '604', '656', '590'),
 	county_fips: fc.constantFrom(...COUNTIES),
-	installed_on: fc.date({ min: new Date('2016-01-01'), max: new Date('2027-12-31'), noInvalidDate: true }).map((d) => d.toISOString().slice(0, 10)),
+	installed_on: fc
+		.date({ min: new Date('2016-01-01'), max: new Date('2027-12-31'), noInvalidDate: true })
+		.map((d) => d.toISOString().slice(0, 10)),
 	acres: fc.integer({ min: 0, max: 400 }),
 	field_id: fc.option(fc.constantFrom('F1', 'F2', 'F3'), { nil: null }),
 	operation_id: fc.option(fc.constantFrom('op-a', 'op-b', 'op-c', 'op-d'), { nil: null }),
 	huc12: fc.option(fc.constantFrom('070801050101', '070801050202', '071000060303'), { nil: null }),
-	cost: fc.option(fc.integer({ min: 0, max: 5_000_000 }).map((c) => c / 100), { nil: null })
+	cost: fc.option(
+		fc.integer({ min: 0, max: 5_000_000 }).map((c) => c / 100),
+		{ nil: null }
+	)
 });
 
 const command = fc.oneof(
@@ -63,7 +68,8 @@ function toRecord(localId: string, r: ArbRecord): TestRecord {
 async function snapshot(districtId: number) {
 	const cells = await sql`select * from rollup_cells where method_version = ${method} and district_id = ${districtId}
 		order by fy_basis, basis, geo_level, fy, geo, practice_code`.execute(db);
-	const estimates = await sql`select record_id, counted, reason, credited_acres, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high,
+	const estimates =
+		await sql`select record_id, counted, reason, credited_acres, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high,
 			county_fips, huc8, practice_code, field_id, operation_key, cost_usd, cost_share_usd, state_fy_installed, state_fy_first, state_fy_last,
 			federal_fy_installed, federal_fy_first, federal_fy_last
 		from record_estimates where method_version = ${method} and district_id = ${districtId} order by record_id`.execute(db);
@@ -82,7 +88,13 @@ describe('incremental maintenance = full rebuild', () => {
 				let n = 0;
 				for (const c of commands) {
 					if (c.kind === 'insert') {
-						ids.push(...(await insertRecords(db, districtId, c.records.map((r) => toRecord(`P${run}-${n++}`, r)))));
+						ids.push(
+							...(await insertRecords(
+								db,
+								districtId,
+								c.records.map((r) => toRecord(`P${run}-${n++}`, r))
+							))
+						);
 					} else if (ids.length > 0) {
 						const id = ids[c.pick % ids.length];
 						if (c.kind === 'update') {
@@ -105,7 +117,18 @@ describe('incremental maintenance = full rebuild', () => {
 
 	it('the summary is never read from the records: cells stay as stored when records change behind the hook', async () => {
 		const districtId = await createDistrict(db, 'RTQ', 'Rollup direct-write district', 'Rollup Test Region', COUNTIES);
-		const [id] = await insertRecords(db, districtId, [toRecord('Q1', { practice_code: '605', county_fips: '19001', installed_on: '2024-09-01', acres: 50, field_id: null, operation_id: 'op-a', huc12: null, cost: 100 })]);
+		const [id] = await insertRecords(db, districtId, [
+			toRecord('Q1', {
+				practice_code: '605',
+				county_fips: '19001',
+				installed_on: '2024-09-01',
+				acres: 50,
+				field_id: null,
+				operation_id: 'op-a',
+				huc12: null,
+				cost: 100
+			})
+		]);
 		const before = await snapshot(districtId);
 		// A write that skips the hook (not how the app writes): the summary does not move until a rebuild.
 		await db.updateTable('records').set({ drainage_area_acres: 500 }).where('id', '=', id).execute();

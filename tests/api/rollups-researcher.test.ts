@@ -27,7 +27,12 @@ beforeAll(async () => {
 });
 afterAll(async () => {
 	if (savedK === undefined) await db.deleteFrom('settings').where('key', '=', 'small_cell_k').execute();
-	else await db.updateTable('settings').set({ value: JSON.stringify(savedK) }).where('key', '=', 'small_cell_k').execute();
+	else
+		await db
+			.updateTable('settings')
+			.set({ value: JSON.stringify(savedK) })
+			.where('key', '=', 'small_cell_k')
+			.execute();
 	await closeDb();
 });
 

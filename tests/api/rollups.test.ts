@@ -44,18 +44,92 @@ function share(effs: number[], i: number) {
 
 const RECORDS: TestRecord[] = [
 	// County 19169 (Story), bioreactors (605) and one cover crop stacked with a bioreactor on field F-7.
-	{ local_id: 'A1', practice_code: '605', county_fips: '19169', installed_on: '2024-08-15', drainage_area_acres: 50, operation_id: 'farm-1', cost_total_usd: 12000, cost_share_usd: 9000, huc12: '070801050101' },
-	{ local_id: 'A2', practice_code: '605', county_fips: '19169', installed_on: '2024-10-01', drainage_area_acres: 80, operation_id: 'farm-2', field_id: 'F-7', cost_total_usd: 15000.55, cost_share_usd: 11250.41, huc12: '070801050102' },
-	{ local_id: 'A3', practice_code: '340', county_fips: '19169', installed_on: '2024-09-20', extent_acres: 80, operation_id: 'farm-2', field_id: 'F-7', cost_total_usd: 2400, cost_share_usd: 2400 },
+	{
+		local_id: 'A1',
+		practice_code: '605',
+		county_fips: '19169',
+		installed_on: '2024-08-15',
+		drainage_area_acres: 50,
+		operation_id: 'farm-1',
+		cost_total_usd: 12000,
+		cost_share_usd: 9000,
+		huc12: '070801050101'
+	},
+	{
+		local_id: 'A2',
+		practice_code: '605',
+		county_fips: '19169',
+		installed_on: '2024-10-01',
+		drainage_area_acres: 80,
+		operation_id: 'farm-2',
+		field_id: 'F-7',
+		cost_total_usd: 15000.55,
+		cost_share_usd: 11250.41,
+		huc12: '070801050102'
+	},
+	{
+		local_id: 'A3',
+		practice_code: '340',
+		county_fips: '19169',
+		installed_on: '2024-09-20',
+		extent_acres: 80,
+		operation_id: 'farm-2',
+		field_id: 'F-7',
+		cost_total_usd: 2400,
+		cost_share_usd: 2400
+	},
 	// Installed in FY2025, withdrawn in FY2026: still counted in FY2025.
-	{ local_id: 'A4', practice_code: '605', county_fips: '19169', installed_on: '2025-05-30', drainage_area_acres: 40, operation_id: 'farm-3', cost_total_usd: 9000, cost_share_usd: 6000, status: 'withdrawn', withdrawn_on: '2026-03-01' },
+	{
+		local_id: 'A4',
+		practice_code: '605',
+		county_fips: '19169',
+		installed_on: '2025-05-30',
+		drainage_area_acres: 40,
+		operation_id: 'farm-3',
+		cost_total_usd: 9000,
+		cost_share_usd: 6000,
+		status: 'withdrawn',
+		withdrawn_on: '2026-03-01'
+	},
 	// First day of state FY2026.
-	{ local_id: 'A5', practice_code: '605', county_fips: '19169', installed_on: '2025-07-01', drainage_area_acres: 60, operation_id: 'farm-5', cost_total_usd: 10000 },
+	{
+		local_id: 'A5',
+		practice_code: '605',
+		county_fips: '19169',
+		installed_on: '2025-07-01',
+		drainage_area_acres: 60,
+		operation_id: 'farm-5',
+		cost_total_usd: 10000
+	},
 	// 15-year lifespan: last day 2025-04-29 … in service in FY2025; the next one ran out 2024-06-29, before FY2025.
-	{ local_id: 'A6', practice_code: '605', county_fips: '19169', installed_on: '2010-04-30', drainage_area_acres: 100, operation_id: 'farm-4', cost_total_usd: 8000.1 },
-	{ local_id: 'A7', practice_code: '605', county_fips: '19169', installed_on: '2009-06-30', drainage_area_acres: 70, operation_id: 'farm-6' },
+	{
+		local_id: 'A6',
+		practice_code: '605',
+		county_fips: '19169',
+		installed_on: '2010-04-30',
+		drainage_area_acres: 100,
+		operation_id: 'farm-4',
+		cost_total_usd: 8000.1
+	},
+	{
+		local_id: 'A7',
+		practice_code: '605',
+		county_fips: '19169',
+		installed_on: '2009-06-30',
+		drainage_area_acres: 70,
+		operation_id: 'farm-6'
+	},
 	// Another county of the same district.
-	{ local_id: 'A8', practice_code: '340', county_fips: '19015', installed_on: '2024-11-11', extent_acres: 120.5, operation_id: 'farm-7', cost_total_usd: 3000.25, cost_share_usd: 3000.25 }
+	{
+		local_id: 'A8',
+		practice_code: '340',
+		county_fips: '19015',
+		installed_on: '2024-11-11',
+		extent_acres: 120.5,
+		operation_id: 'farm-7',
+		cost_total_usd: 3000.25,
+		cost_share_usd: 3000.25
+	}
 ];
 
 async function rollup(query: string, token: string = DEMO_TOKENS.manager) {
@@ -72,11 +146,23 @@ beforeAll(async () => {
 	await createTokenUser(db, 'rollups-a@runnel.test', 'district', districtA, TOKEN_A);
 	await createTokenUser(db, 'rollups-b@runnel.test', 'district', districtB, TOKEN_B);
 	const noScope = await createTokenUser(db, 'rollups-noscope@runnel.test', 'district', districtA, TOKEN_NO_SCOPE);
-	await db.updateTable('api_tokens').set({ scopes: ['records:read'] }).where('token_hash', '=', hashToken(noScope)).execute();
+	await db
+		.updateTable('api_tokens')
+		.set({ scopes: ['records:read'] })
+		.where('token_hash', '=', hashToken(noScope))
+		.execute();
 	const inserted = await insertRecords(db, districtA, RECORDS);
 	ids = Object.fromEntries(RECORDS.map((r, i) => [r.local_id, inserted[i]]));
 	await insertRecords(db, districtB, [
-		{ local_id: 'B1', practice_code: '605', county_fips: '19153', installed_on: '2024-12-01', drainage_area_acres: 30, operation_id: 'farm-b1', cost_total_usd: 7000 }
+		{
+			local_id: 'B1',
+			practice_code: '605',
+			county_fips: '19153',
+			installed_on: '2024-12-01',
+			drainage_area_acres: 30,
+			operation_id: 'farm-b1',
+			cost_total_usd: 7000
+		}
 	]);
 });
 
@@ -190,7 +276,12 @@ describe('one county × FY × practice cell, recomputed by hand', () => {
 		for (const g of [huc, dist, fy]) {
 			for (const t of g.totals) {
 				const inFy = g.cells.filter((c: { fy: number }) => c.fy === t.fy);
-				expect(round(inFy.reduce((a: number, c: { n_lb_yr_mean: number }) => a + c.n_lb_yr_mean, 0), 1)).toBeCloseTo(t.n_lb_yr_mean, 0);
+				expect(
+					round(
+						inFy.reduce((a: number, c: { n_lb_yr_mean: number }) => a + c.n_lb_yr_mean, 0),
+						1
+					)
+				).toBeCloseTo(t.n_lb_yr_mean, 0);
 				expect(inFy.reduce((a: number, c: { practices: number }) => a + c.practices, 0)).toBe(t.practices);
 			}
 		}
@@ -207,7 +298,11 @@ describe('reduction methods and the rollup', () => {
 		const altered: ReductionMethod = structuredClone(DEFAULT_METHOD);
 		altered.version = 'rt-test.1';
 		altered.label = 'Rollup test method (invented values for a test)';
-		altered.practices.find((p) => p.practice_code === '605')!.n = { ...altered.practices.find((p) => p.practice_code === '605')!.n!, mean: 0.5, sd: 0.1 };
+		altered.practices.find((p) => p.practice_code === '605')!.n = {
+			...altered.practices.find((p) => p.practice_code === '605')!.n!,
+			mean: 0.5,
+			sd: 0.1
+		};
 		altered.baseline.statewide = { ...altered.baseline.statewide, n_lb_per_ac_yr: 12 };
 		await createMethod(db, altered, 'test');
 		await setActiveMethod(db, 'rt-test.1', 'test');
@@ -242,7 +337,11 @@ describe('reduction methods and the rollup', () => {
 		expectCellMatches(rebuilt.body.groupings[0].cells[0], {
 			...e,
 			acres: e.acres + 5,
-			n: { mean: e.n.mean + a1 * eff(m, '605', 'n').mean, low: e.n.low + a1 * eff(m, '605', 'n').low, high: e.n.high + a1 * eff(m, '605', 'n').high }
+			n: {
+				mean: e.n.mean + a1 * eff(m, '605', 'n').mean,
+				low: e.n.low + a1 * eff(m, '605', 'n').low,
+				high: e.n.high + a1 * eff(m, '605', 'n').high
+			}
 		});
 		// The active method followed the change incrementally.
 		const live = await rollup(`${CELL_QUERY}&basis=installed`);
@@ -335,7 +434,16 @@ describe('exports', () => {
 		const names = ['=HYPERLINK("http://evil.example","x")', '+SUM(1,2)', '-2+3', '@cmd'];
 		for (const [i, n] of names.entries()) {
 			const id = await createDistrict(db, `RTINJ${i}`, n, 'Rollup Test Region', ['19169']);
-			await insertRecords(db, id, [{ local_id: `INJ${i}`, practice_code: '605', county_fips: '19169', installed_on: '2024-08-01', drainage_area_acres: 10, operation_id: 'x' }]);
+			await insertRecords(db, id, [
+				{
+					local_id: `INJ${i}`,
+					practice_code: '605',
+					county_fips: '19169',
+					installed_on: '2024-08-01',
+					drainage_area_acres: 10,
+					operation_id: 'x'
+				}
+			]);
 		}
 		const res = await request(await appHandler())
 			.get('/api/v1/rollups?group=district,fy&fy=2025&format=csv')
@@ -406,7 +514,9 @@ describe('exports', () => {
 		}
 		const method = wb.getWorksheet('Method and sources')!;
 		const texts: string[] = [];
-		method.eachRow((row) => texts.push((row.values as unknown[]).filter((v) => typeof v === 'string' || typeof v === 'number').join(' | ')));
+		method.eachRow((row) =>
+			texts.push((row.values as unknown[]).filter((v) => typeof v === 'string' || typeof v === 'number').join(' | '))
+		);
 		const m = (await getMethod(db, original))!.method;
 		for (const p of m.practices) expect(texts.some((t) => t.startsWith(`Efficiency | ${p.practice_code} |`))).toBe(true);
 		expect(texts.some((t) => t.startsWith('Baseline | Statewide') && t.includes(m.baseline.statewide.citation.title))).toBe(true);

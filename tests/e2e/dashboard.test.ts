@@ -17,7 +17,7 @@ const TOKEN_E = 'rnl_test_dashboard_district';
 function scenario(counties: string[]): TestRecord[] {
 	const out: TestRecord[] = [];
 	let seed = 7;
-	const rnd = () => ((seed = (seed * 48271) % 2147483647) / 2147483647);
+	const rnd = () => (seed = (seed * 48271) % 2147483647) / 2147483647;
 	const practices = ['605', '340', '554', '604', '656', '340', '340'];
 	counties.forEach((county, ci) => {
 		const n = 3 + Math.floor(rnd() * 9) + (ci % 7 === 0 ? 8 : 0);
@@ -44,7 +44,9 @@ function scenario(counties: string[]): TestRecord[] {
 
 beforeAll(async () => {
 	await rebuildMethod(db, await getActiveMethodVersion(db));
-	const counties = (await db.selectFrom('counties').select('fips').where('state_fips', '=', '19').orderBy('fips').execute()).map((c) => c.fips);
+	const counties = (await db.selectFrom('counties').select('fips').where('state_fips', '=', '19').orderBy('fips').execute()).map(
+		(c) => c.fips
+	);
 	const mine = counties.filter((_, i) => i % 3 !== 1); // about two thirds of the state
 	const districtId = await createDistrict(db, 'RTE', 'Rollup Dashboard Test District', 'RT Dashboard', mine.slice(0, 4));
 	await createTokenUser(db, 'dashboard-district@runnel.test', 'district', districtId, TOKEN_E);

@@ -23,7 +23,13 @@ export interface TestRecord {
 	cost_share_usd?: number | null;
 }
 
-export async function createDistrict(db: Kysely<Database>, code: string, name: string, region: string, counties: string[]): Promise<number> {
+export async function createDistrict(
+	db: Kysely<Database>,
+	code: string,
+	name: string,
+	region: string,
+	counties: string[]
+): Promise<number> {
 	const row = await db
 		.insertInto('districts')
 		.values({ code, name, region, contacts: JSON.stringify([]) })
@@ -41,7 +47,13 @@ export async function createDistrict(db: Kysely<Database>, code: string, name: s
 }
 
 /** A user of the role with an API token carrying all the role's scopes; returns the token. */
-export async function createTokenUser(db: Kysely<Database>, email: string, role: Role, districtId: number | null, token: string): Promise<string> {
+export async function createTokenUser(
+	db: Kysely<Database>,
+	email: string,
+	role: Role,
+	districtId: number | null,
+	token: string
+): Promise<string> {
 	const user = await db
 		.insertInto('users')
 		.values({ email, name: `Test ${role}`, role, district_id: districtId, password_hash: null })
@@ -50,7 +62,13 @@ export async function createTokenUser(db: Kysely<Database>, email: string, role:
 		.executeTakeFirstOrThrow();
 	await db
 		.insertInto('api_tokens')
-		.values({ user_id: user.id, name: 'test', token_hash: hashToken(token), display_prefix: token.slice(0, 8), scopes: [...ROLE_SCOPES[role]] })
+		.values({
+			user_id: user.id,
+			name: 'test',
+			token_hash: hashToken(token),
+			display_prefix: token.slice(0, 8),
+			scopes: [...ROLE_SCOPES[role]]
+		})
 		.onConflict((oc) => oc.column('token_hash').doNothing())
 		.execute();
 	return token;
@@ -93,7 +111,16 @@ export async function insertRecords(db: Kysely<Database>, districtId: number, re
 				.execute();
 			await trx
 				.insertInto('record_versions')
-				.values(rows.map((r) => ({ record_id: r.id, version: 1, data: JSON.stringify(r.data), changed_fields: [], batch_id: null, actor: 'test' })))
+				.values(
+					rows.map((r) => ({
+						record_id: r.id,
+						version: 1,
+						data: JSON.stringify(r.data),
+						changed_fields: [],
+						batch_id: null,
+						actor: 'test'
+					}))
+				)
 				.execute();
 			ids.push(...rows.map((r) => String(r.id)));
 		}
@@ -116,7 +143,14 @@ export async function updateRecords(db: Kysely<Database>, changes: Array<{ id: s
 				.execute();
 			await trx
 				.insertInto('record_versions')
-				.values({ record_id: c.id, version: cur.version + 1, data: row.data, changed_fields: Object.keys(c.set), batch_id: null, actor: 'test' })
+				.values({
+					record_id: c.id,
+					version: cur.version + 1,
+					data: row.data,
+					changed_fields: Object.keys(c.set),
+					batch_id: null,
+					actor: 'test'
+				})
 				.execute();
 		}
 		await afterRecordsChanged(

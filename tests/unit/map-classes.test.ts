@@ -38,7 +38,11 @@ describe('map classes', () => {
 	});
 
 	it('keeps bounds increasing and covering the largest value', () => {
-		for (const vs of [[3, 3, 3, 3, 4], [1, 1000, 1001, 1002], [0.2, 0.21, 0.22, 9]]) {
+		for (const vs of [
+			[3, 3, 3, 3, 4],
+			[1, 1000, 1001, 1002],
+			[0.2, 0.21, 0.22, 9]
+		]) {
 			const b = classBreaks(vs);
 			for (let i = 1; i < b.length; i++) expect(b[i]).toBeGreaterThan(b[i - 1]);
 			expect(b[b.length - 1]).toBeGreaterThanOrEqual(Math.max(...vs));

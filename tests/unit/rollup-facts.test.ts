@@ -46,7 +46,15 @@ describe('record facts', () => {
 	});
 
 	it('stacked on one field: shares of 1 − (1 − 0.43)(1 − 0.31) in proportion 43 : 31', () => {
-		const rye: FactRecord = { ...base, id: '2', practice_code: '340', extent_acres: '50', drainage_area_acres: null, field_id: 'F', catalog_lifespan_years: 1 };
+		const rye: FactRecord = {
+			...base,
+			id: '2',
+			practice_code: '340',
+			extent_acres: '50',
+			drainage_area_acres: null,
+			field_id: 'F',
+			catalog_lifespan_years: 1
+		};
 		const [bio, cover] = recordFacts([{ ...base, field_id: 'F' }, rye], DEFAULT_METHOD, 7);
 		const combined = 1 - 0.57 * 0.69;
 		expect(bio.n_lb.mean).toBeCloseTo(50 * 10 * combined * (0.43 / 0.74), 9);
@@ -54,7 +62,15 @@ describe('record facts', () => {
 	});
 
 	it('a withdrawn practice keeps what it had in service beside the practices still on the field; the others no longer share with it', () => {
-		const rye: FactRecord = { ...base, id: '2', practice_code: '340', extent_acres: '50', drainage_area_acres: null, field_id: 'F', catalog_lifespan_years: 1 };
+		const rye: FactRecord = {
+			...base,
+			id: '2',
+			practice_code: '340',
+			extent_acres: '50',
+			drainage_area_acres: null,
+			field_id: 'F',
+			catalog_lifespan_years: 1
+		};
 		const gone: FactRecord = { ...base, field_id: 'F', status: 'withdrawn', withdrawn_on: '2026-03-01' };
 		const [bio, cover] = recordFacts([gone, rye], DEFAULT_METHOD, 7);
 		const combined = 1 - 0.57 * 0.69;
@@ -66,7 +82,11 @@ describe('record facts', () => {
 	});
 
 	it('records with no operation id share one key per district; a practice the method credits 0 still counts', () => {
-		const [f] = recordFacts([{ ...base, operation_id: null, practice_code: '590', extent_acres: '30', catalog_lifespan_years: 1 }], DEFAULT_METHOD, 7);
+		const [f] = recordFacts(
+			[{ ...base, operation_id: null, practice_code: '590', extent_acres: '30', catalog_lifespan_years: 1 }],
+			DEFAULT_METHOD,
+			7
+		);
 		expect(f.operation_key).toBe('');
 		expect(f.n_lb).toEqual({ mean: 0, low: 0, high: 0 });
 		expect(f.credited_acres).toBe(30);

@@ -13,7 +13,11 @@ describe('groupings', () => {
 	});
 
 	it('reads alternatives separated by | and repeated parameters, without duplicates', () => {
-		expect(parseGroupings(['county,fy,practice|huc8|district']).map((g) => g.dims.join())).toEqual(['fy,county,practice', 'fy,huc8', 'fy,district']);
+		expect(parseGroupings(['county,fy,practice|huc8|district']).map((g) => g.dims.join())).toEqual([
+			'fy,county,practice',
+			'fy,huc8',
+			'fy,district'
+		]);
 		expect(parseGroupings(['county', 'fy,county']).length).toBe(1);
 		expect(parseGroupings([]).map((g) => g.dims.join())).toEqual(['fy,county,practice']);
 	});
@@ -33,7 +37,15 @@ describe('query', () => {
 
 	it('reads a FY range and filters', () => {
 		const r = q('fy=2020..2027&district=BLH&county=19169&practice=605&basis=installed&fy_basis=federal&format=xlsx');
-		expect(r.ok && r.query).toMatchObject({ fy: { from: 2020, to: 2027 }, district: 'BLH', county: '19169', practice: '605', basis: 'installed', fy_basis: 'federal', format: 'xlsx' });
+		expect(r.ok && r.query).toMatchObject({
+			fy: { from: 2020, to: 2027 },
+			district: 'BLH',
+			county: '19169',
+			practice: '605',
+			basis: 'installed',
+			fy_basis: 'federal',
+			format: 'xlsx'
+		});
 	});
 
 	it('lists every problem with a pointer to the parameter', () => {

@@ -52,7 +52,14 @@ describe('small-cell rule, worked examples', () => {
 	});
 
 	it('never pools across fiscal years or practices', () => {
-		const r = applySmallCellRule([cell('19003', 'South', ['a', 'b']), cell('19005', 'South', ['c'], { fy: 2025 }), cell('19007', 'South', ['d'], { practice_code: '340' })], 3);
+		const r = applySmallCellRule(
+			[
+				cell('19003', 'South', ['a', 'b']),
+				cell('19005', 'South', ['c'], { fy: 2025 }),
+				cell('19007', 'South', ['d'], { practice_code: '340' })
+			],
+			3
+		);
 		expect(r.published).toEqual([]);
 		expect(r.counts.suppressed).toBe(3);
 	});
@@ -79,20 +86,18 @@ const scenario = fc
 	})
 	.map(({ k, cells }) => ({
 		k,
-		cells: cells.map(
-			(c): BaseCell => ({
-				...zeroMeasures(),
-				fy: c.fy,
-				practice_code: c.practice_code,
-				county_fips: c.county,
-				region: ['19001', '19003', '19005'].includes(c.county) ? 'South' : 'North',
-				operations: c.ops.length,
-				operation_keys: c.ops,
-				practices: c.ops.length + 1,
-				n_lb_mean: c.n,
-				cost_usd: c.n * 3
-			})
-		)
+		cells: cells.map((c): BaseCell => ({
+			...zeroMeasures(),
+			fy: c.fy,
+			practice_code: c.practice_code,
+			county_fips: c.county,
+			region: ['19001', '19003', '19005'].includes(c.county) ? 'South' : 'North',
+			operations: c.ops.length,
+			operation_keys: c.ops,
+			practices: c.ops.length + 1,
+			n_lb_mean: c.n,
+			cost_usd: c.n * 3
+		}))
 	}));
 
 describe('small-cell rule over random scenarios (fast-check)', () => {
@@ -107,10 +112,17 @@ describe('small-cell rule over random scenarios (fast-check)', () => {
 						(c) =>
 							c.fy === p.fy &&
 							c.practice_code === p.practice_code &&
-							(p.level === 'county' ? c.county_fips === p.county_fips : p.level === 'region' ? c.region === p.region && c.operations < k : c.operations < k)
+							(p.level === 'county'
+								? c.county_fips === p.county_fips
+								: p.level === 'region'
+									? c.region === p.region && c.operations < k
+									: c.operations < k)
 					);
 					if (p.level === 'county') expect(members).toHaveLength(1);
-					if (p.level !== 'state') expect(new Set(members.flatMap((m) => m.operation_keys ?? [])).size).toBe(p.level === 'county' ? members[0].operations : p.operations);
+					if (p.level !== 'state')
+						expect(new Set(members.flatMap((m) => m.operation_keys ?? [])).size).toBe(
+							p.level === 'county' ? members[0].operations : p.operations
+						);
 				}
 			}),
 			{ numRuns: 300 }
@@ -122,8 +134,15 @@ describe('small-cell rule over random scenarios (fast-check)', () => {
 			fc.property(scenario, ({ k, cells }) => {
 				const { published, counts } = applySmallCellRule(cells, k);
 				const small = cells.filter((c) => c.operations < k);
-				for (const s of small) expect(published.some((p) => p.level === 'county' && p.county_fips === s.county_fips && p.fy === s.fy && p.practice_code === s.practice_code)).toBe(false);
-				expect(counts.published_as_county + counts.generalised_to_region + counts.generalised_to_state + counts.suppressed).toBe(cells.length);
+				for (const s of small)
+					expect(
+						published.some(
+							(p) => p.level === 'county' && p.county_fips === s.county_fips && p.fy === s.fy && p.practice_code === s.practice_code
+						)
+					).toBe(false);
+				expect(counts.published_as_county + counts.generalised_to_region + counts.generalised_to_state + counts.suppressed).toBe(
+					cells.length
+				);
 				expect(counts.published_as_county).toBe(cells.length - small.length);
 				expect(published.reduce((a, p) => a + p.cells, 0)).toBe(cells.length - counts.suppressed);
 				// Measures: what is published plus what is suppressed is everything, for every measure.
@@ -132,7 +151,8 @@ describe('small-cell rule over random scenarios (fast-check)', () => {
 					const shown = published.reduce((a, p) => a + p[key], 0);
 					expect(shown).toBeLessThanOrEqual(all + 1e-9);
 				}
-				if (counts.suppressed === 0) expect(published.reduce((a, p) => a + p.n_lb_mean, 0)).toBe(cells.reduce((a, c) => a + c.n_lb_mean, 0));
+				if (counts.suppressed === 0)
+					expect(published.reduce((a, p) => a + p.n_lb_mean, 0)).toBe(cells.reduce((a, c) => a + c.n_lb_mean, 0));
 			}),
 			{ numRuns: 300 }
 		);

@@ -115,16 +115,35 @@ function groupBy<T>(items: readonly T[], key: (t: T) => string): Map<string, T[]
 }
 
 /** Applies the rule to county × FY × practice cells; returns the rows that may be published and the counts. */
-export function applySmallCellRule(cells: readonly BaseCell[], k: number = DEFAULT_K): { published: PublishedCell[]; counts: SmallCellCounts } {
+export function applySmallCellRule(
+	cells: readonly BaseCell[],
+	k: number = DEFAULT_K
+): { published: PublishedCell[]; counts: SmallCellCounts } {
 	if (!Number.isInteger(k) || k < 1) throw new RangeError(`k is a whole number ≥ 1, not ${k}`);
-	const counts: SmallCellCounts = { k, cells: cells.length, published_as_county: 0, generalised_to_region: 0, generalised_to_state: 0, suppressed: 0 };
+	const counts: SmallCellCounts = {
+		k,
+		cells: cells.length,
+		published_as_county: 0,
+		generalised_to_region: 0,
+		generalised_to_state: 0,
+		suppressed: 0
+	};
 	const published: PublishedCell[] = [];
 	const small: BaseCell[] = [];
 	for (const c of cells) {
 		if (c.operations >= k) {
 			const measures = zeroMeasures();
 			addMeasures(measures, c);
-			published.push({ ...measures, level: 'county', fy: c.fy, practice_code: c.practice_code, county_fips: c.county_fips, region: null, operations: c.operations, cells: 1 });
+			published.push({
+				...measures,
+				level: 'county',
+				fy: c.fy,
+				practice_code: c.practice_code,
+				county_fips: c.county_fips,
+				region: null,
+				operations: c.operations,
+				cells: 1
+			});
 			counts.published_as_county++;
 		} else {
 			if (!c.operation_keys || c.operation_keys.length !== c.operations) {

@@ -65,7 +65,10 @@ const fyRange = z.string().transform((s, ctx) => {
 	try {
 		return parseFyRange(s);
 	} catch (e) {
-		ctx.addIssue({ code: 'custom', message: e instanceof FyRangeError ? e.message : 'Write a fiscal year as 2027 or a range as 2020..2027.' });
+		ctx.addIssue({
+			code: 'custom',
+			message: e instanceof FyRangeError ? e.message : 'Write a fiscal year as 2027 or a range as 2020..2027.'
+		});
 		return z.NEVER;
 	}
 });
@@ -109,7 +112,10 @@ export const RollupQueryInput = z
 			.regex(/^[0-9]{3}$/, 'A practice is its 3-digit standard number, e.g. 605.')
 			.optional()
 			.meta({ description: 'Practice standard number.' }),
-		format: z.enum(ROLLUP_FORMATS).default('json').meta({ description: 'json (default), csv (one grouping) or xlsx (a sheet per grouping).' })
+		format: z
+			.enum(ROLLUP_FORMATS)
+			.default('json')
+			.meta({ description: 'json (default), csv (one grouping) or xlsx (a sheet per grouping).' })
 	})
 	.strict();
 export type RollupQueryInput = z.input<typeof RollupQueryInput>;
@@ -163,12 +169,17 @@ export function parseRollupQuery(params: URLSearchParams): { ok: true; query: Ro
 	if (errors.length > 0 || !parsed.success) return { ok: false, errors };
 	const q = parsed.data;
 	if (q.format === 'csv' && groupings.length > 1) {
-		return { ok: false, errors: [{ pointer: '#/query/group', detail: 'CSV holds one grouping; ask for one, or use format=xlsx (a sheet per grouping).' }] };
+		return {
+			ok: false,
+			errors: [{ pointer: '#/query/group', detail: 'CSV holds one grouping; ask for one, or use format=xlsx (a sheet per grouping).' }]
+		};
 	}
 	if (q.county && groupings.some((g) => g.dims.includes('huc8'))) {
 		return {
 			ok: false,
-			errors: [{ pointer: '#/query/county', detail: 'Watershed (huc8) groupings cannot be filtered by county: a HUC-8 crosses county lines.' }]
+			errors: [
+				{ pointer: '#/query/county', detail: 'Watershed (huc8) groupings cannot be filtered by county: a HUC-8 crosses county lines.' }
+			]
 		};
 	}
 	return {
@@ -198,7 +209,9 @@ export const RollupMeasures = z.object({
 		.number()
 		.int()
 		.nullable()
-		.meta({ description: 'Distinct operations (farms); records without an operation id count as one per district. Null where not published.' }),
+		.meta({
+			description: 'Distinct operations (farms); records without an operation id count as one per district. Null where not published.'
+		}),
 	credited_acres: z.number().meta({ description: 'Credited acres (acres treated, or drainage area for edge-of-field practices), 0.01 ac' }),
 	cost_usd: z.number().meta({ description: 'Total cost reported, dollars (cents)' }),
 	cost_share_usd: z.number().meta({ description: 'Cost-share paid, dollars (cents)' }),
@@ -265,7 +278,10 @@ export const RollupResponse = z
 			county: z.string().nullable(),
 			practice: z.string().nullable()
 		}),
-		refreshed_at: z.string().nullable().meta({ description: 'When this method’s summary was last rebuilt in full (later changes are applied incrementally)' }),
+		refreshed_at: z
+			.string()
+			.nullable()
+			.meta({ description: 'When this method’s summary was last rebuilt in full (later changes are applied incrementally)' }),
 		groupings: z.array(RollupGroupingResult),
 		small_cells: SmallCellReport.nullable(),
 		notes: z.array(z.string())
@@ -288,7 +304,10 @@ export type RollupPending = z.infer<typeof RollupPending>;
 
 /** The query parameters as OpenAPI sees them (all strings in the URL). */
 export const RollupQueryParams = z.object({
-	group: z.string().optional().meta({ description: RollupQueryInput.shape.group.meta()?.description as string, example: 'county,fy,practice|huc8' }),
+	group: z
+		.string()
+		.optional()
+		.meta({ description: RollupQueryInput.shape.group.meta()?.description as string, example: 'county,fy,practice|huc8' }),
 	fy: z.string().optional().meta({ example: '2020..2027' }),
 	basis: z.enum(COUNT_BASES).optional(),
 	fy_basis: z.enum(FY_BASES).optional(),
@@ -330,7 +349,10 @@ export function registerRollupsOpenApi(registry: RegistryLike, problemSchema?: z
 					'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet': { schema: z.string().meta({ format: 'binary' }) }
 				}
 			},
-			202: { description: 'The summary for this method version is being built; retry after Retry-After seconds', content: { 'application/json': { schema: RollupPending } } },
+			202: {
+				description: 'The summary for this method version is being built; retry after Retry-After seconds',
+				content: { 'application/json': { schema: RollupPending } }
+			},
 			400: { description: 'Bad query', content: { 'application/problem+json': { schema: problem } } },
 			401: { description: 'No or bad token', content: { 'application/problem+json': { schema: problem } } },
 			403: { description: 'Missing scope or another district', content: { 'application/problem+json': { schema: problem } } },

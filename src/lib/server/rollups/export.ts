@@ -42,17 +42,29 @@ export function exportColumns(g: RollupGroupingResult, researcher: boolean): Exp
 		{ key: 'fy', header: 'FY', kind: 'fy', width: 8 }
 	];
 	if (g.group.includes('district')) {
-		cols.push({ key: 'district_code', header: 'District code', kind: 'text', width: 10 }, { key: 'district_name', header: 'District', kind: 'text', width: 32 });
+		cols.push(
+			{ key: 'district_code', header: 'District code', kind: 'text', width: 10 },
+			{ key: 'district_name', header: 'District', kind: 'text', width: 32 }
+		);
 	}
 	if (g.group.includes('county')) {
 		if (researcher) {
-			cols.push({ key: 'area_level', header: 'Area level', kind: 'text', width: 10 }, { key: 'area_name', header: 'Area', kind: 'text', width: 20 });
+			cols.push(
+				{ key: 'area_level', header: 'Area level', kind: 'text', width: 10 },
+				{ key: 'area_name', header: 'Area', kind: 'text', width: 20 }
+			);
 		}
-		cols.push({ key: 'county_fips', header: 'County FIPS', kind: 'text', width: 10 }, { key: 'county_name', header: 'County', kind: 'text', width: 18 });
+		cols.push(
+			{ key: 'county_fips', header: 'County FIPS', kind: 'text', width: 10 },
+			{ key: 'county_name', header: 'County', kind: 'text', width: 18 }
+		);
 	}
 	if (g.group.includes('huc8')) cols.push({ key: 'huc8', header: 'HUC-8', kind: 'text', width: 11 });
 	if (g.group.includes('practice')) {
-		cols.push({ key: 'practice_code', header: 'Practice', kind: 'text', width: 9 }, { key: 'practice_name', header: 'Practice name', kind: 'text', width: 30 });
+		cols.push(
+			{ key: 'practice_code', header: 'Practice', kind: 'text', width: 9 },
+			{ key: 'practice_name', header: 'Practice name', kind: 'text', width: 30 }
+		);
 	}
 	return [...cols, ...MEASURE_COLUMNS];
 }
@@ -118,17 +130,29 @@ export function sheetName(group: readonly string[], used: Set<string>): string {
 const pct = (x: number | null | undefined) => (x === null || x === undefined ? null : Math.round(x * 1000) / 10);
 
 function efficiencyCells(e: EfficiencyValue | null) {
-	return e ? [pct(e.mean), pct(e.sd), e.applies_to, formatCitation(e.citation) + (e.citation.note ? ` — ${e.citation.note}` : '')] : [null, null, 'not credited', null];
+	return e
+		? [pct(e.mean), pct(e.sd), e.applies_to, formatCitation(e.citation) + (e.citation.note ? ` — ${e.citation.note}` : '')]
+		: [null, null, 'not credited', null];
 }
 
 /** Writes the workbook: a sheet per grouping, then "Method and sources" and "Notes". */
-async function writeWorkbook(wb: ExcelJS.stream.xlsx.WorkbookWriter, r: RollupResponse, method: ReductionMethod, researcher: boolean): Promise<void> {
+async function writeWorkbook(
+	wb: ExcelJS.stream.xlsx.WorkbookWriter,
+	r: RollupResponse,
+	method: ReductionMethod,
+	researcher: boolean
+): Promise<void> {
 	const used = new Set<string>();
 	const header = { font: { bold: true }, fill: { type: 'pattern', pattern: 'solid', fgColor: { argb: 'FFEEF7F8' } } } as const;
 	for (const g of r.groupings) {
 		const cols = exportColumns(g, researcher);
 		const ws = wb.addWorksheet(sheetName(g.group, used), { views: [{ state: 'frozen', ySplit: 1 }] });
-		ws.columns = cols.map((c) => ({ header: c.header, key: c.key, width: c.width, style: NUM_FMT[c.kind] ? { numFmt: NUM_FMT[c.kind] } : {} }));
+		ws.columns = cols.map((c) => ({
+			header: c.header,
+			key: c.key,
+			width: c.width,
+			style: NUM_FMT[c.kind] ? { numFmt: NUM_FMT[c.kind] } : {}
+		}));
 		const h = ws.getRow(1);
 		h.font = header.font;
 		h.fill = header.fill;

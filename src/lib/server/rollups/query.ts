@@ -9,12 +9,21 @@ import { ApiError } from '../http/problem';
 import { fiscalYear } from '$lib/domain/fiscal-year';
 import type { ReductionMethod } from '$lib/domain/reduction-method';
 import { applySmallCellRule, type BaseCell, type SmallCellCounts } from '$lib/domain/small-cell-rule';
-import { DEFAULT_FY_SPAN, type Grouping, type RollupCell, type RollupPending, type RollupQuery, type RollupResponse, type RollupTotal } from '$lib/schema/rollups';
+import {
+	DEFAULT_FY_SPAN,
+	type Grouping,
+	type RollupCell,
+	type RollupPending,
+	type RollupQuery,
+	type RollupResponse,
+	type RollupTotal
+} from '$lib/schema/rollups';
 import { activeMethodVersion, loadMethod } from './method-source';
 import { isCurrent, requestRebuild, summaryState } from './refresh';
 import { readSettings, SETTING_KEYS, smallCellKOf, stateFyStartMonthOf } from './settings';
 
-export type RollupOutcome = { kind: 'ready'; response: RollupResponse; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
+export type RollupOutcome =
+	{ kind: 'ready'; response: RollupResponse; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
 
 interface Lookups {
 	counties: Map<string, string>;
@@ -40,8 +49,18 @@ async function lookups(db: Kysely<Database>, stateFips: string): Promise<Lookups
 async function resolveDistrict(db: Kysely<Database>, text: string): Promise<number> {
 	const row = /^[0-9]+$/.test(text)
 		? await db.selectFrom('districts').select('id').where('id', '=', Number(text)).executeTakeFirst()
-		: await db.selectFrom('districts').select('id').where(sql`lower(code)`, '=', text.toLowerCase()).executeTakeFirst();
-	if (!row) throw new ApiError({ status: 404, type: 'unknown-district', detail: `No district ${text}.`, errors: [{ pointer: '#/query/district', detail: 'Unknown district.' }] });
+		: await db
+				.selectFrom('districts')
+				.select('id')
+				.where(sql`lower(code)`, '=', text.toLowerCase())
+				.executeTakeFirst();
+	if (!row)
+		throw new ApiError({
+			status: 404,
+			type: 'unknown-district',
+			detail: `No district ${text}.`,
+			errors: [{ pointer: '#/query/district', detail: 'Unknown district.' }]
+		});
 	return row.id;
 }
 
@@ -101,7 +120,10 @@ export interface CellSource {
 }
 
 /** The summary level a grouping reads: geography and practice level chosen so no cell is summed across them. */
-export function sourceLevel(g: Grouping, src: Pick<CellSource, 'county' | 'practice'>): { geoLevel: 'county' | 'huc8' | 'district'; byPractice: boolean } {
+export function sourceLevel(
+	g: Grouping,
+	src: Pick<CellSource, 'county' | 'practice'>
+): { geoLevel: 'county' | 'huc8' | 'district'; byPractice: boolean } {
 	const geoLevel = g.dims.includes('county') || src.county ? 'county' : g.dims.includes('huc8') ? 'huc8' : 'district';
 	return { geoLevel, byPractice: g.dims.includes('practice') || !!src.practice };
 }
@@ -195,11 +217,16 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		districtId = principal.districtId;
 	} else if (researcher) {
 		const errors = [];
-		if (q.district !== null) errors.push({ pointer: '#/query/district', detail: 'Researchers see county, regional and state aggregates, not districts.' });
+		if (q.district !== null)
+			errors.push({ pointer: '#/query/district', detail: 'Researchers see county, regional and state aggregates, not districts.' });
 		if (q.groupings.some((g) => g.dims.join() !== 'fy,county,practice')) {
-			errors.push({ pointer: '#/query/group', detail: 'Researchers get the county,fy,practice grouping, with the small-cell rule applied.' });
+			errors.push({
+				pointer: '#/query/group',
+				detail: 'Researchers get the county,fy,practice grouping, with the small-cell rule applied.'
+			});
 		}
-		if (errors.length) throw new ApiError({ status: 400, type: 'invalid-query', detail: 'This grouping or filter is not open to researchers.', errors });
+		if (errors.length)
+			throw new ApiError({ status: 400, type: 'invalid-query', detail: 'This grouping or filter is not open to researchers.', errors });
 	} else if (q.district !== null) districtId = await resolveDistrict(db, q.district);
 
 	const state = await summaryState(db, version);
@@ -220,7 +247,15 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 	}
 
 	const fy = q.fy ?? defaultFyRange(q.fy_basis, startMonth);
-	const src: CellSource = { methodVersion: version, fyBasis: q.fy_basis, basis: q.basis, fy, districtId, county: q.county, practice: q.practice };
+	const src: CellSource = {
+		methodVersion: version,
+		fyBasis: q.fy_basis,
+		basis: q.basis,
+		fy,
+		districtId,
+		county: q.county,
+		practice: q.practice
+	};
 	const names = await lookups(db, String(settings.get(SETTING_KEYS.hubStateFips) ?? '19').padStart(2, '0'));
 	let smallCells: SmallCellCounts | null = null;
 	const groupings: RollupResponse['groupings'] = [];
@@ -385,7 +420,8 @@ async function researcherCells(db: Kysely<Database>, src: CellSource, k: number,
 		practice_code: p.practice_code,
 		practice_name: names.practices.get(p.practice_code) ?? '',
 		area_level: p.level,
-		area_name: p.level === 'county' ? (names.counties.get(p.county_fips!) ?? p.county_fips!) : p.level === 'region' ? p.region! : 'Statewide',
+		area_name:
+			p.level === 'county' ? (names.counties.get(p.county_fips!) ?? p.county_fips!) : p.level === 'region' ? p.region! : 'Statewide',
 		operations: p.operations,
 		...toOut(p)
 	}));
@@ -393,7 +429,20 @@ async function researcherCells(db: Kysely<Database>, src: CellSource, k: number,
 	for (const p of shown) {
 		const t = byFy.get(p.fy);
 		if (!t) byFy.set(p.fy, { ...p });
-		else for (const key of ['practices', 'credited_acres', 'cost_usd', 'cost_share_usd', 'n_lb_mean', 'n_lb_low', 'n_lb_high', 'p_lb_mean', 'p_lb_low', 'p_lb_high'] as const) t[key] += p[key];
+		else
+			for (const key of [
+				'practices',
+				'credited_acres',
+				'cost_usd',
+				'cost_share_usd',
+				'n_lb_mean',
+				'n_lb_low',
+				'n_lb_high',
+				'p_lb_mean',
+				'p_lb_low',
+				'p_lb_high'
+			] as const)
+				t[key] += p[key];
 	}
 	const totals: RollupTotal[] = [...byFy.values()].sort((a, b) => a.fy - b.fy).map((t) => ({ fy: t.fy, operations: null, ...toOut(t) }));
 	return { cells: out, totals, counts };

@@ -289,7 +289,9 @@ export async function rebuildMethod(db: Kysely<Database>, version: string, onPro
 		insert into rollup_refresh (method_version, status, state_fy_start_month, phase, done, total, started_at, finished_at, error, updated_at)
 		values (${version}, 'running', ${startMonth}, 'estimates', 0, ${total}, now(), null, null, now())
 		on conflict (method_version) do update set status = 'running', state_fy_start_month = excluded.state_fy_start_month,
-			phase = 'estimates', done = 0, total = excluded.total, started_at = now(), finished_at = null, error = null, updated_at = now()`.execute(db);
+			phase = 'estimates', done = 0, total = excluded.total, started_at = now(), finished_at = null, error = null, updated_at = now()`.execute(
+		db
+	);
 	const progress = async (phase: RebuildProgress['phase'], done: number, of: number) => {
 		await db
 			.updateTable('rollup_refresh')

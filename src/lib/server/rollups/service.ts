@@ -29,7 +29,8 @@ export async function rollupTick(): Promise<string | null> {
 		const startMonth = await stateFyStartMonth(db);
 		const failedLongAgo =
 			state?.status === 'failed' &&
-			(await sql<{ due: boolean }>`select ${state.updated_at}::timestamptz < now() - ${RETRY_FAILED_AFTER}::interval as due`.execute(db)).rows[0].due;
+			(await sql<{ due: boolean }>`select ${state.updated_at}::timestamptz < now() - ${RETRY_FAILED_AFTER}::interval as due`.execute(db))
+				.rows[0].due;
 		if (!state || state.status === 'stale' || failedLongAgo || (state.status === 'ready' && state.state_fy_start_month !== startMonth)) {
 			await requestRebuild(db, version);
 		}

@@ -27,7 +27,11 @@ export interface StateGoal {
 }
 
 export async function readSettings(db: Db, keys: readonly string[]): Promise<Map<string, unknown>> {
-	const rows = await db.selectFrom('settings').select(['key', 'value']).where('key', 'in', [...keys]).execute();
+	const rows = await db
+		.selectFrom('settings')
+		.select(['key', 'value'])
+		.where('key', 'in', [...keys])
+		.execute();
 	return new Map(rows.map((r) => [r.key, r.value]));
 }
 

@@ -9,7 +9,8 @@ import type { RequestHandler } from './$types';
 
 export const GET: RequestHandler = async ({ url, locals }) => {
 	const parsed = parseRollupQuery(url.searchParams);
-	if (!parsed.ok) throw new ApiError({ status: 400, type: 'invalid-query', detail: 'The query parameters are not valid.', errors: parsed.errors });
+	if (!parsed.ok)
+		throw new ApiError({ status: 400, type: 'invalid-query', detail: 'The query parameters are not valid.', errors: parsed.errors });
 	const principal = locals.principal!;
 	const outcome = await runRollup(getDb(), principal, parsed.query);
 	if (outcome.kind === 'pending') {
@@ -28,7 +29,11 @@ export const GET: RequestHandler = async ({ url, locals }) => {
 			});
 		case 'xlsx':
 			return new Response(xlsxStream(outcome.response, outcome.method, researcher), {
-				headers: { ...headers, 'content-type': XLSX_TYPE, 'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'xlsx')}"` }
+				headers: {
+					...headers,
+					'content-type': XLSX_TYPE,
+					'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'xlsx')}"`
+				}
 			});
 		default:
 			return json(outcome.response, { headers });
