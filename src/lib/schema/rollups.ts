@@ -205,13 +205,9 @@ const lb = (what: string) => z.number().meta({ description: `${what}, lb per yea
 /** Measures of a cell or a totals row. */
 export const RollupMeasures = z.object({
 	practices: z.number().int().meta({ description: 'Practice records counted' }),
-	operations: z
-		.number()
-		.int()
-		.nullable()
-		.meta({
-			description: 'Distinct operations (farms); records without an operation id count as one per district. Null where not published.'
-		}),
+	operations: z.number().int().nullable().meta({
+		description: 'Distinct operations (farms); records without an operation id count as one per district. Null where not published.'
+	}),
 	credited_acres: z.number().meta({ description: 'Credited acres (acres treated, or drainage area for edge-of-field practices), 0.01 ac' }),
 	cost_usd: z.number().meta({ description: 'Total cost reported, dollars (cents)' }),
 	cost_share_usd: z.number().meta({ description: 'Cost-share paid, dollars (cents)' }),
