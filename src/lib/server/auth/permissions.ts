@@ -91,7 +91,12 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/schema/practice-record.csv': { GET: publicAccess },
 	'/api/v1/schema/practice-record.xlsx': { GET: publicAccess },
 	'/api/docs': { GET: publicAccess },
-	'/api/docs/[asset]': { GET: publicAccess }
+	'/api/docs/[asset]': { GET: publicAccess },
+	'/api/v1/dataset/releases': { GET: scope('dataset:read'), POST: scope('dataset:read') },
+	'/api/v1/dataset/releases/[version]': { GET: scope('dataset:read') },
+	'/api/v1/dataset/releases/[version]/files/[name]': { GET: scope('dataset:read') },
+	'/api/v1/dataset/releases/[version]/withdraw': { POST: scope('dataset:read') },
+	'/api/v1/dataset/records': { GET: scope('dataset:read') }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
