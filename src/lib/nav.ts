@@ -14,6 +14,7 @@ export const NAV: NavItem[] = [
 	{ href: '/records', label: 'Records', roles: ['district', 'manager', 'admin'] },
 	{ href: '/methods', label: 'Methods', roles: ['admin', 'manager', 'district', 'researcher'] },
 	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] },
+	{ href: '/dataset', label: 'Research dataset', roles: ['researcher', 'manager', 'admin'] },
 	// administration; everyone's own account page is linked from the header, beside their name
 	{ href: '/admin/users', label: 'Users', roles: ['admin'] },
 	{ href: '/admin/districts', label: 'Districts', roles: ['admin'] },

@@ -74,7 +74,15 @@ export function dataDictionary(): DictionaryEntry[] {
 export const DATASET_FORMATS = ['json', 'csv', 'ndjson'] as const;
 
 export const DatasetQuery = z.object({
-	fy: z.coerce.number().int().min(1800).max(2200).optional(),
+	fy: z
+		.string()
+		.regex(/^\d{4}(\.\.\d{4})?$/, 'a fiscal year like 2026, or a range like 2024..2026')
+		.transform((v) => {
+			const [from, to = from] = v.split('..').map(Number);
+			return { from, to };
+		})
+		.refine((r) => r.from <= r.to, 'the range must not run backwards')
+		.optional(),
 	practice: z
 		.string()
 		.regex(/^[0-9A-Za-z-]{1,10}$/, 'a practice code')

@@ -92,6 +92,7 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/schema/practice-record.xlsx': { GET: publicAccess },
 	'/api/docs': { GET: publicAccess },
 	'/api/docs/[asset]': { GET: publicAccess },
+	'/dataset': { GET: roles('researcher', 'manager', 'admin'), POST: roles('manager', 'admin') },
 	'/api/v1/dataset/releases': { GET: scope('dataset:read'), POST: scope('dataset:read') },
 	'/api/v1/dataset/releases/[version]': { GET: scope('dataset:read') },
 	'/api/v1/dataset/releases/[version]/files/[name]': { GET: scope('dataset:read') },

@@ -12,7 +12,8 @@ import { once } from 'node:events';
 import ExcelJS from 'exceljs';
 import type { Kysely } from 'kysely';
 import { sql } from 'kysely';
-import { DATASET_COLUMNS, type AnonymiseCounts } from '../../domain/anonymise';
+import { DATASET_COLUMNS } from '../../domain/anonymise';
+import { HubReleaseManifest, MANIFEST_JSON_FILE, MANIFEST_JWS_FILE } from '../../schema/release-manifest';
 import { dataDictionary } from '../../schema/dataset';
 import type { Database } from '../db/schema';
 import { ApiError } from '../http/problem';
@@ -25,21 +26,9 @@ import { datasetContext, datasetRows } from './source';
 
 export const MANIFEST_TYP = 'runnel-manifest+jws';
 
-export interface ManifestFile {
-	name: string;
-	media_type: string;
-	bytes: number;
-	sha256: string;
-}
-
-export interface ReleaseManifest {
-	version: string;
-	published_at: string;
-	method_version: string;
-	row_count: number;
-	small_cells: AnonymiseCounts;
-	files: ManifestFile[];
-}
+// The manifest's shape is src/lib/schema/release-manifest.ts (shared with `runnel release verify`).
+export type ReleaseManifest = HubReleaseManifest;
+type ManifestFile = HubReleaseManifest['files'][number];
 
 const MEDIA: Record<string, string> = {
 	'dataset.csv': 'text/csv; charset=utf-8',
@@ -199,13 +188,14 @@ export async function publishRelease(
 			const file = path.join(dir, name);
 			files.push({ name, media_type: MEDIA[name], bytes: (await stat(file)).size, sha256: await sha256File(file) });
 		}
-		const manifest: ReleaseManifest = { ...head, files };
+		// Validated against the shared schema before it is signed: what the CLI verifies is what we write.
+		const manifest: ReleaseManifest = HubReleaseManifest.parse({ ...head, files });
 		const manifestText = JSON.stringify(manifest, null, 2) + '\n';
 		const jws = await signJws(new TextEncoder().encode(manifestText), { typ: MANIFEST_TYP, cty: 'json' }, db);
-		await writeFile(path.join(dir, 'manifest.json'), manifestText);
-		await writeFile(path.join(dir, 'manifest.jws'), jws);
+		await writeFile(path.join(dir, MANIFEST_JSON_FILE), manifestText);
+		await writeFile(path.join(dir, MANIFEST_JWS_FILE), jws);
 		const store = await getObjectStore();
-		for (const name of [...RELEASE_FILES, 'manifest.json', 'manifest.jws']) {
+		for (const name of [...RELEASE_FILES, MANIFEST_JSON_FILE, MANIFEST_JWS_FILE]) {
 			await store.putFile(
 				objectKey(input.version, name),
 				path.join(dir, name),

@@ -22,8 +22,9 @@ import { pseudonymiser } from './pseudonym';
 export const DOMINANCE_SETTING = 'dataset_dominance_share';
 
 export interface DatasetFilter {
-	/** In service during this state fiscal year. */
+	/** In service during this state fiscal year (or, with `fyTo`, during any FY from `fy` to `fyTo`). */
 	fy?: number | null;
+	fyTo?: number | null;
 	practice?: string | null;
 	/** Published county (rows generalised above county never match). */
 	county?: string | null;
@@ -125,7 +126,7 @@ export async function sourceBatch(
 	if (afterId) where.push(sql`e.record_id > ${afterId}::bigint`);
 	if (filter.practice) where.push(sql`e.practice_code = ${filter.practice}`);
 	if (filter.county) where.push(sql`e.county_fips = ${filter.county}`);
-	if (filter.fy != null) where.push(sql`e.state_fy_first <= ${filter.fy} and e.state_fy_last >= ${filter.fy}`);
+	if (filter.fy != null) where.push(sql`e.state_fy_first <= ${filter.fyTo ?? filter.fy} and e.state_fy_last >= ${filter.fy}`);
 	const res = await sql<SourceRow>`
 		select e.record_id::text as record_id, e.practice_code, p.name as practice_name, e.county_fips, d.region, e.huc8,
 			r.installed_on, e.state_fy_installed as fy_installed, e.state_fy_first as fy_first, e.state_fy_last as fy_last,

@@ -25,7 +25,7 @@ export const GET: RequestHandler = async ({ url, locals, request }) => {
 	const q = parsed.data;
 	const accept = request.headers.get('accept') ?? '';
 	const format = q.format ?? (accept.includes('text/csv') ? 'csv' : accept.includes('application/x-ndjson') ? 'ndjson' : 'json');
-	const filter: DatasetFilter = { fy: q.fy ?? null, practice: q.practice ?? null, county: q.county ?? null };
+	const filter: DatasetFilter = { fy: q.fy?.from ?? null, fyTo: q.fy?.to ?? null, practice: q.practice ?? null, county: q.county ?? null };
 	const db = getDb();
 	const ctx = await datasetContext(db);
 	const headers = { ...limits, 'cache-control': 'private, no-store', 'x-method-version': ctx.methodVersion };
