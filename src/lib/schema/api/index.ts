@@ -3,5 +3,6 @@ import './common';
 import './core';
 import './schema-routes';
 import './batches';
+import './dataset';
 
 export { registry } from './registry';

@@ -234,7 +234,7 @@ export async function publishRelease(
 						`Release ${input.version} of the anonymised research dataset is published (${rowCount} records, method ${ctx.methodVersion}).\n\n` +
 						(input.notes ? `${input.notes}\n\n` : '') +
 						`Manifest and files: ${input.origin}/api/v1/dataset/releases/${input.version}\nHow to verify a release: ${input.origin}/dataset\n\n` +
-						`You get this because you have a researcher account; turn these e-mails off on ${input.origin}/dataset.`
+						`You get this because you have a researcher account; turn these e-mails off on ${input.origin}/account.`
 				});
 			}
 		});
