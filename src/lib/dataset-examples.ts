@@ -83,10 +83,11 @@ der_int() { local h=$1; while [ "\${h:0:2}" = 00 ] && [ \${#h} -gt 2 ]; do h=\${
 BODY=$(der_int "\${SIG:0:64}")$(der_int "\${SIG:64:64}")
 printf '30%02x%s' $(( \${#BODY} / 2 )) "$BODY" | xxd -r -p > manifest.sig
 printf %s "$(cut -d. -f1,2 manifest.jws)" > signing-input
-openssl dgst -sha256 -verify hub-key.der -keyform DER -signature manifest.sig signing-input
-# the signed payload must be manifest.json, byte for byte; then each file's SHA-256
-b64url "$(cut -d. -f2 manifest.jws)" | cmp - manifest.json && echo "manifest.json is the signed manifest"
-jq -r '.files[] | "\\(.sha256)  \\(.name)"' manifest.json | sha256sum -c -`
+# the signed payload is the manifest; check the signature, every file, and that manifest.json is that payload
+b64url "$(cut -d. -f2 manifest.jws)" > signed-manifest.json
+openssl dgst -sha256 -verify hub-key.der -keyform DER -signature manifest.sig signing-input &&
+  jq -r '.files[] | "\\(.sha256)  \\(.name)"' signed-manifest.json | sha256sum -c - &&
+  cmp signed-manifest.json manifest.json && echo "release verified: signature, every file, manifest.json"`
 		},
 		{
 			id: 'jose-verify',
