@@ -2,7 +2,7 @@
 // release, openssl verifies its ES256 signature with only the public JWKS and sha256sum checks every file;
 // one changed byte in a file or in the manifest makes the same script fail. The live curl example
 // returns the same CSV as the API.
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
@@ -18,14 +18,23 @@ const VERSION = '2093.1';
 let app: { origin: string; close: () => Promise<void> };
 const tmp = mkdtempSync(path.join(os.tmpdir(), 'runnel-dataset-examples-'));
 
-function sh(code: string, cwd: string) {
-	const r = spawnSync('bash', ['-c', `set -eo pipefail\n${code}`], {
-		cwd,
-		env: { ...process.env, RUNNEL_TOKEN: DEMO_TOKENS.researcher },
-		encoding: 'utf8',
-		timeout: 60_000
+/** Runs a script with bash (asynchronously: the hub answers from this same process). */
+function sh(code: string, cwd: string): Promise<{ code: number | null; out: string }> {
+	return new Promise((resolve, reject) => {
+		const child = spawn('bash', ['-c', `set -eo pipefail\n${code}`], {
+			cwd,
+			env: { ...process.env, RUNNEL_TOKEN: DEMO_TOKENS.researcher }
+		});
+		let out = '';
+		child.stdout.on('data', (b: Buffer) => (out += b.toString()));
+		child.stderr.on('data', (b: Buffer) => (out += b.toString()));
+		const timer = setTimeout(() => child.kill('SIGKILL'), 60_000);
+		child.on('error', reject);
+		child.on('close', (c) => {
+			clearTimeout(timer);
+			resolve({ code: c, out });
+		});
 	});
-	return { code: r.status, out: `${r.stdout}\n${r.stderr}` };
 }
 const example = (id: string) => releaseExamples(app.origin, VERSION).find((e) => e.id === id)!.code;
 
@@ -47,12 +56,12 @@ afterAll(async () => {
 });
 
 describe('release examples', () => {
-	it('curl downloads the release; openssl + sha256sum verify it; one changed byte anywhere fails', () => {
-		const dl = sh(example('curl-release'), tmp);
+	it('curl downloads the release; openssl + sha256sum verify it; one changed byte anywhere fails', async () => {
+		const dl = await sh(example('curl-release'), tmp);
 		expect(dl.code, dl.out).toBe(0);
 		const dir = path.join(tmp, `runnel-dataset-${VERSION}`);
 		const verify = example('openssl-verify');
-		const ok = sh(verify, dir);
+		const ok = await sh(verify, dir);
 		expect(ok.code, ok.out).toBe(0);
 		expect(ok.out).toContain('Verified OK');
 		expect(ok.out).toContain('release verified');
@@ -66,18 +75,18 @@ describe('release examples', () => {
 			const at = name === 'manifest.jws' ? changed.length - 3 : Math.floor(changed.length / 3);
 			changed[at] = changed[at] === 0x41 ? 0x42 : 0x41;
 			writeFileSync(file, changed);
-			const bad = sh(verify, dir);
+			const bad = await sh(verify, dir);
 			expect(bad.code, `${name} changed: ${bad.out}`).not.toBe(0);
 			writeFileSync(file, original);
 		}
-		expect(sh(verify, dir).code).toBe(0);
+		expect((await sh(verify, dir)).code).toBe(0);
 	});
 });
 
 describe('live examples', () => {
 	it('the curl example returns the live CSV with the filters it names', async () => {
 		const code = liveExamples(app.origin).find((e) => e.id === 'curl-live')!.code;
-		const r = sh(code.replace(/^export RUNNEL_TOKEN=.*$/m, ''), tmp);
+		const r = await sh(code.replace(/^export RUNNEL_TOKEN=.*$/m, ''), tmp);
 		expect(r.code, r.out).toBe(0);
 		const csv = readFileSync(path.join(tmp, 'dataset-live.csv'), 'utf8');
 		const api = await (
