@@ -7,7 +7,7 @@ import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Database } from '../../src/lib/server/db/schema';
 import { bearer, DEMO_TOKENS, startApp } from '../helpers/app';
-import { foreignRequests, launch, screenshot, seriousA11yViolations, type Browser } from '../helpers/browser';
+import { foreignRequests, launch, screenshot, seriousA11yViolations, signIn, type Browser } from '../helpers/browser';
 
 let app: { origin: string; close: () => Promise<void> };
 let browser: Browser;
@@ -75,8 +75,9 @@ describe('/dataset in Chromium', () => {
 	}, 180_000);
 
 	it('the researcher sees the releases with notes, small cells, withdrawn state, downloads, verification and examples', async () => {
+		// A real sign-in: the session cookie is what the file links use.
 		const page = await browser.newPage();
-		await page.setExtraHTTPHeaders(bearer(DEMO_TOKENS.researcher));
+		await signIn(page, app.origin, 'researcher@runnel.test');
 		await page.goto(app.origin + '/');
 		await page.getByRole('link', { name: 'Research dataset', exact: true }).first().click();
 		await page.waitForURL(/\/dataset$/);
@@ -94,7 +95,7 @@ describe('/dataset in Chromium', () => {
 		expect(await page.getByRole('button', { name: 'Publish release' }).count()).toBe(0);
 		expect(await page.getByText(/Withdraw release/).count()).toBe(0);
 
-		// A file link downloads the file from the API with the researcher's credentials.
+		// A file link downloads the file from the API with the researcher's session.
 		const href = await page.getByRole('link', { name: `README.md of release ${VERSION}` }).getAttribute('href');
 		const res = await page.request.get(app.origin + href!);
 		expect(res.status()).toBe(200);
