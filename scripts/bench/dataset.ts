@@ -99,7 +99,9 @@ interface Measure {
 async function streamThroughApp(dbUrl: string, token: string): Promise<Measure> {
 	const port = await freePort();
 	const origin = `http://127.0.0.1:${port}`;
-	const child = spawn(process.execPath, [path.join(ROOT, 'build', 'index.js')], {
+	// BENCH_CHILD_ARGS: extra node flags for the app, e.g. `--cpu-prof --cpu-prof-dir=/tmp/prof`.
+	const extra = (process.env.BENCH_CHILD_ARGS ?? '').split(' ').filter(Boolean);
+	const child = spawn(process.execPath, [...extra, path.join(ROOT, 'build', 'index.js')], {
 		cwd: ROOT,
 		env: {
 			...process.env,
@@ -148,6 +150,7 @@ async function streamThroughApp(dbUrl: string, token: string): Promise<Measure> 
 		return { rows: lines - 1, bytes, ms, streamPeakKb, hwmKb: procKb(pid, 'VmHWM'), idleKb, warmKb };
 	} finally {
 		child.kill('SIGTERM');
+		await new Promise((r) => child.once('exit', r));
 	}
 }
 

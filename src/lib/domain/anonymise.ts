@@ -164,9 +164,20 @@ const FUNDING_RULES: [Exclude<FundingCategory, 'multiple' | 'other' | 'not_repor
 	['private', /\b(private|landowner|producer|self|foundation|none)\b/i]
 ];
 
+const fundingSeen = new Map<string, FundingCategory>();
+
 /** The funding program as districts name it → a coarse category (the free text is never published). */
 export function fundingCategory(program: string | null): FundingCategory {
 	if (program == null || program.trim() === '') return 'not_reported';
+	const seen = fundingSeen.get(program);
+	if (seen) return seen;
+	const category = categoryOf(program);
+	// Districts name a handful of programs; remember them (bounded, so odd input cannot grow it).
+	if (fundingSeen.size < 10_000) fundingSeen.set(program, category);
+	return category;
+}
+
+function categoryOf(program: string): FundingCategory {
 	const hits = new Set(FUNDING_RULES.filter(([, re]) => re.test(program)).map(([c]) => c));
 	if (hits.size === 0) return 'other';
 	if (hits.size > 1) return 'multiple';

@@ -95,6 +95,8 @@ export async function datasetContext(db: Kysely<Database>, methodVersion?: strin
 
 interface SourceRow {
 	record_id: string;
+	/** Installed, or in service in some FY (else not part of the dataset). */
+	included: boolean;
 	practice_code: string;
 	practice_name: string;
 	county_fips: string;
@@ -114,7 +116,12 @@ interface SourceRow {
 	funding_program: string | null;
 }
 
-/** One batch of source rows after `afterId` (record id order), filtered. */
+/**
+ * One batch of source rows after `afterId` (record id order), filtered. The batch is cut from
+ * record_estimates by its (method_version, record_id) index first, so each batch costs the same however far
+ * into the dataset it is; rows that are not part of the dataset come back with `included = false` (the
+ * caller skips them but keeps their id as the position).
+ */
 export async function sourceBatch(
 	db: Kysely<Database>,
 	ctx: DatasetContext,
@@ -122,27 +129,29 @@ export async function sourceBatch(
 	afterId: string | null,
 	limit: number
 ): Promise<SourceRow[]> {
-	const where = [sql`e.method_version = ${ctx.methodVersion}`, INCLUDED];
-	if (afterId) where.push(sql`e.record_id > ${afterId}::bigint`);
-	if (filter.practice) where.push(sql`e.practice_code = ${filter.practice}`);
-	if (filter.county) where.push(sql`e.county_fips = ${filter.county}`);
-	if (filter.fy != null) where.push(sql`e.state_fy_first <= ${filter.fyTo ?? filter.fy} and e.state_fy_last >= ${filter.fy}`);
+	const where = [sql`method_version = ${ctx.methodVersion}`];
+	if (afterId) where.push(sql`record_id > ${afterId}::bigint`);
+	if (filter.practice) where.push(sql`practice_code = ${filter.practice}`);
+	if (filter.county) where.push(sql`county_fips = ${filter.county}`);
+	if (filter.fy != null) where.push(sql`state_fy_first <= ${filter.fyTo ?? filter.fy} and state_fy_last >= ${filter.fy}`);
 	const res = await sql<SourceRow>`
-		select e.record_id::text as record_id, e.practice_code, p.name as practice_name, e.county_fips, d.region, e.huc8,
-			r.installed_on, e.state_fy_installed as fy_installed, e.state_fy_first as fy_first, e.state_fy_last as fy_last,
-			e.credited_acres, e.n_lb_mean, e.n_lb_low, e.n_lb_high, e.p_lb_mean, e.p_lb_low, e.p_lb_high, r.funding_program
-		from record_estimates e
+		select e.record_id::text as record_id, ${INCLUDED} as included, e.practice_code, p.name as practice_name, e.county_fips,
+			d.region, e.huc8, r.installed_on, e.state_fy_installed as fy_installed, e.state_fy_first as fy_first,
+			e.state_fy_last as fy_last, e.credited_acres, e.n_lb_mean, e.n_lb_low, e.n_lb_high, e.p_lb_mean, e.p_lb_low, e.p_lb_high,
+			r.funding_program
+		from (
+			select * from record_estimates where ${sql.join(where, sql` and `)} order by record_id limit ${limit}
+		) as e
 			join records r on r.id = e.record_id
 			join districts d on d.id = e.district_id
 			join practices p on p.code = e.practice_code
-		where ${sql.join(where, sql` and `)}
-		order by e.record_id
-		limit ${limit}`.execute(db);
+		order by e.record_id`.execute(db);
 	return res.rows;
 }
 
 /** A source row → its published row, or null when its cell is suppressed or the county filter excludes it. */
 export function publish(ctx: DatasetContext, s: SourceRow, filter: DatasetFilter): DatasetRow | null {
+	if (!s.included) return null;
 	const rec: SourceRecord = {
 		record_id: s.record_id,
 		practice_code: s.practice_code,
@@ -173,21 +182,25 @@ export function publish(ctx: DatasetContext, s: SourceRow, filter: DatasetFilter
 	return toRow(rec, d.level, d.showHuc8 ? huc8Of(rec.huc12) : null, ctx.pseudonym);
 }
 
-/** Every published row of the filtered dataset, in batches (memory stays flat however many rows). */
+/**
+ * Every published row of the filtered dataset, in batches (memory stays flat however many rows). The next
+ * batch is asked for while the current one is being published, so the database and the encoder overlap.
+ */
 export async function* datasetRows(
 	db: Kysely<Database>,
 	ctx: DatasetContext,
 	filter: DatasetFilter = {},
 	batch = 5000
 ): AsyncGenerator<DatasetRow> {
-	let after: string | null = null;
-	for (;;) {
-		const rows = await sourceBatch(db, ctx, filter, after, batch);
+	let next: Promise<SourceRow[]> | null = sourceBatch(db, ctx, filter, null, batch);
+	while (next) {
+		const rows: SourceRow[] = await next;
+		next = rows.length < batch ? null : sourceBatch(db, ctx, filter, rows[rows.length - 1].record_id, batch);
+		// A rejected prefetch is awaited (and thrown) on the next turn; do not let it go unhandled meanwhile.
+		next?.catch(() => {});
 		for (const s of rows) {
 			const row = publish(ctx, s, filter);
 			if (row) yield row;
 		}
-		if (rows.length < batch) return;
-		after = rows[rows.length - 1].record_id;
 	}
 }
