@@ -26,7 +26,13 @@ beforeAll(async () => {
 	const a = await createDistrict(db, 'DSCA', 'Small-cell release district A', 'SC East', ['19011', '19013']);
 	const b = await createDistrict(db, 'DSCB', 'Small-cell release district B', 'SC East', ['19017']);
 	const c = await createDistrict(db, 'DSCC', 'Small-cell release district C', 'SC West', ['19021', '19025']);
-	districts.push({ id: a, county: '19011' }, { id: a, county: '19013' }, { id: b, county: '19017' }, { id: c, county: '19021' }, { id: c, county: '19025' });
+	districts.push(
+		{ id: a, county: '19011' },
+		{ id: a, county: '19013' },
+		{ id: b, county: '19017' },
+		{ id: c, county: '19021' },
+		{ id: c, county: '19025' }
+	);
 }, 120_000);
 afterAll(async () => {
 	if (savedK === undefined) await db.deleteFrom('settings').where('key', '=', 'small_cell_k').execute();

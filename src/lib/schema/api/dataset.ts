@@ -61,9 +61,7 @@ const ReleaseDetail = registry.register(
 			withdrawn_at: z.iso.datetime().nullable(),
 			manifest: Manifest,
 			manifest_jws: z.string().meta({ description: 'The signed manifest (compact JWS).' }),
-			files: z.array(
-				z.object({ name: z.string(), media_type: z.string(), bytes: z.number().int(), sha256: z.string(), href: z.string() })
-			),
+			files: z.array(z.object({ name: z.string(), media_type: z.string(), bytes: z.number().int(), sha256: z.string(), href: z.string() })),
 			jwks: z.string().meta({ description: 'Where the public key set is.' })
 		})
 		.meta({ description: 'One release: status, notes, manifest and its signature, file links.' })
@@ -128,7 +126,10 @@ registry.registerPath({
 	summary: 'List the releases',
 	security: needsToken('dataset:read'),
 	responses: {
-		200: { description: 'Every release, newest first.', content: { 'application/json': { schema: z.object({ data: z.array(ReleaseSummary) }) } } },
+		200: {
+			description: 'Every release, newest first.',
+			content: { 'application/json': { schema: z.object({ data: z.array(ReleaseSummary) }) } }
+		},
 		401: problems[401],
 		403: problems[403]
 	}
