@@ -16,6 +16,7 @@ export const NAV: NavItem[] = [
 	{ href: '/reviews', label: 'Reviews', roles: ['manager', 'admin'] },
 	{ href: '/verification', label: 'Field visits', roles: ['manager', 'admin', 'district'] },
 	{ href: '/schema', label: 'Record schema', roles: ['admin', 'manager', 'district'] },
+	{ href: '/dataset', label: 'Research dataset', roles: ['researcher', 'manager', 'admin'] },
 	// administration; everyone's own account page is linked from the header, beside their name
 	{ href: '/admin/users', label: 'Users', roles: ['admin'] },
 	{ href: '/admin/districts', label: 'Districts', roles: ['admin'] },

@@ -44,6 +44,7 @@ function expected(rule: Access, who: Who): Expect {
 	if (who.kind === 'anonymous') return 'unauthenticated';
 	if (rule.kind === 'scope' && !who.scopes.includes(rule.scope)) return 'insufficient_scope';
 	if (rule.kind === 'roles' && !rule.roles.includes(who.role)) return 'forbidden';
+	if (rule.kind === 'scope' && rule.roles && !rule.roles.includes(who.role)) return 'forbidden';
 	// District-scoped path: the sample names the first demo district.
 	if (rule.districtParam && who.district === 'second') return 'forbidden';
 	return 'allow';

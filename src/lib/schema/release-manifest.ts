@@ -49,3 +49,42 @@ export const RELEASE_SIGNING_ALGORITHMS = [
 	'PS384',
 	'PS512'
 ];
+
+/** The small-cell counts a release states (src/lib/domain/anonymise.ts computes them). */
+export const ReleaseSmallCells = z.object({
+	k: z.number().int().positive(),
+	dominance: z.number(),
+	records: z.number().int().nonnegative(),
+	cells: z.number().int().nonnegative(),
+	published_as_county: z.number().int().nonnegative(),
+	generalised_to_region: z.number().int().nonnegative(),
+	generalised_to_state: z.number().int().nonnegative(),
+	suppressed: z.number().int().nonnegative(),
+	suppressed_records: z.number().int().nonnegative(),
+	dominated: z.number().int().nonnegative(),
+	huc8_withheld: z.number().int().nonnegative()
+});
+export type ReleaseSmallCells = z.infer<typeof ReleaseSmallCells>;
+
+/**
+ * The manifest exactly as the hub writes and signs it: the shape above (what `runnel release verify`
+ * needs) plus what a citation needs. The hub validates every manifest against this before signing.
+ */
+export const HubReleaseManifest = z.strictObject({
+	version: z.string().min(1),
+	published_at: z.iso.datetime(),
+	method_version: z.string().min(1),
+	row_count: z.number().int().nonnegative(),
+	small_cells: ReleaseSmallCells,
+	files: z
+		.array(
+			z.strictObject({
+				name: ReleaseFileName,
+				media_type: z.string().min(1),
+				bytes: z.number().int().nonnegative(),
+				sha256: z.string().regex(/^[0-9a-f]{64}$/)
+			})
+		)
+		.min(1)
+});
+export type HubReleaseManifest = z.infer<typeof HubReleaseManifest>;

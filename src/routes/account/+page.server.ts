@@ -25,7 +25,13 @@ export const load = (async ({ locals }) => {
 		listApiTokens(db, { userId: p.userId, limit: 200 })
 	]);
 	if (!user) error(404, 'Account not found');
+	const releaseMail =
+		p.role === 'researcher'
+			? !(await db.selectFrom('users').select('release_mail_opt_out').where('id', '=', p.userId).executeTakeFirstOrThrow())
+					.release_mail_opt_out
+			: null;
 	return {
+		releaseMail,
 		account: user,
 		currentSessionId: p.kind === 'session' ? p.credentialId : null,
 		sessions,
@@ -99,6 +105,18 @@ export const actions = {
 		if (!r.ok)
 			return fail(400, { action: 'createToken', errors: { [r.field === 'expires_at' ? 'expires_in_days' : r.field]: r.message }, values });
 		return { action: 'createToken', created: { name: r.row.name, token: r.token, scopes: r.row.scopes, expiresAt: r.row.expiresAt } };
+	},
+
+	/** Research dataset: the researcher's choice to get (or not) an e-mail when a release is published. */
+	releaseMail: async (event) => {
+		const p = person(event.locals.principal);
+		if (p.role !== 'researcher') return fail(400, { action: 'releaseMail', message: 'Only researchers get release e-mails.' });
+		const wanted = (await event.request.formData()).get('release_mail') === 'on';
+		await getDb().updateTable('users').set({ release_mail_opt_out: !wanted }).where('id', '=', p.userId).execute();
+		return {
+			action: 'releaseMail',
+			message: wanted ? 'You will get an e-mail when a release is published.' : 'You will no longer get release e-mails.'
+		};
 	},
 
 	revokeToken: async (event) => {

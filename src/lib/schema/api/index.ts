@@ -5,5 +5,6 @@ import './schema-routes';
 import './batches';
 import './rollups';
 import './reviews';
+import './dataset';
 
 export { registry } from './registry';

@@ -17,7 +17,8 @@ export function decide(rule: Access, principal: Principal | null): Decision {
 			return principal ? { ok: true } : { ok: false, reason: 'unauthenticated' };
 		case 'scope':
 			if (!principal) return { ok: false, reason: 'unauthenticated' };
-			return principal.scopes.includes(rule.scope) ? { ok: true } : { ok: false, reason: 'insufficient_scope', scope: rule.scope };
+			if (!principal.scopes.includes(rule.scope)) return { ok: false, reason: 'insufficient_scope', scope: rule.scope };
+			return !rule.roles || rule.roles.includes(principal.role) ? { ok: true } : { ok: false, reason: 'forbidden_role' };
 		case 'any-scope':
 			if (!principal) return { ok: false, reason: 'unauthenticated' };
 			return rule.scopes.some((s) => principal.scopes.includes(s))

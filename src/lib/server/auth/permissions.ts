@@ -14,7 +14,7 @@ import type { Role, Scope } from '$lib/domain/scopes';
 export type Access = (
 	| { kind: 'public' }
 	| { kind: 'signed-in' }
-	| { kind: 'scope'; scope: Scope }
+	| { kind: 'scope'; scope: Scope; /** and, when set, one of these roles (checked after the scope) */ roles?: Role[] }
 	| { kind: 'any-scope'; scopes: Scope[] }
 	| { kind: 'roles'; roles: Role[] }
 ) & {
@@ -28,6 +28,8 @@ export type RouteRules = Partial<Record<Method, Access>>;
 const publicAccess: Access = { kind: 'public' };
 const signedIn: Access = { kind: 'signed-in' };
 const scope = (s: Scope): Access => ({ kind: 'scope', scope: s });
+/** The scope, held by one of these roles (e.g. publishing a dataset release: `dataset:read` of a manager). */
+const scopeForRoles = (s: Scope, ...r: Role[]): Access => ({ kind: 'scope', scope: s, roles: r });
 const roles = (...r: Role[]): Access => ({ kind: 'roles', roles: r });
 /** Any one of these scopes will do. */
 const anyScope = (...s: Scope[]): Access => ({ kind: 'any-scope', scopes: s });
@@ -104,11 +106,17 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/schema/practice-record.csv': { GET: publicAccess },
 	'/api/v1/schema/practice-record.xlsx': { GET: publicAccess },
 	'/api/docs': { GET: publicAccess },
-	'/api/docs/[asset]': { GET: publicAccess }
+	'/api/docs/[asset]': { GET: publicAccess },
+	'/dataset': { GET: roles('researcher', 'manager', 'admin'), POST: roles('manager', 'admin') },
+	'/api/v1/dataset/releases': { GET: scope('dataset:read'), POST: scopeForRoles('dataset:read', 'manager', 'admin') },
+	'/api/v1/dataset/releases/[version]': { GET: scope('dataset:read') },
+	'/api/v1/dataset/releases/[version]/files/[name]': { GET: scope('dataset:read') },
+	'/api/v1/dataset/releases/[version]/withdraw': { POST: scopeForRoles('dataset:read', 'manager', 'admin') },
+	'/api/v1/dataset/records': { GET: scope('dataset:read') }
 };
 
 // Exported helpers so the matrix test and the nav share the same vocabulary.
-export const access = { public: publicAccess, signedIn, scope, anyScope, roles, ownDistrict };
+export const access = { public: publicAccess, signedIn, scope, scopeForRoles, anyScope, roles, ownDistrict };
 
 export function ruleFor(routeId: string, method: string): Access | undefined {
 	const rules = PERMISSIONS[routeId];

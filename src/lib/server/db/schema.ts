@@ -68,6 +68,8 @@ export interface UsersTable {
 	active: Generated<boolean>;
 	created_at: Generated<Date>;
 	last_sign_in_at: Timestamp | null;
+	/** The researcher does not want the new-release e-mail (dataset). */
+	release_mail_opt_out: Generated<boolean>;
 }
 
 export interface ApiTokensTable {
@@ -438,6 +440,20 @@ export interface VerificationVisitsTable {
 	recorded_at: Timestamp | null;
 	confirmed_by_user_id: number | null;
 	confirmed_at: Timestamp | null;
+// --- research dataset releases ---------------------------------------------------------------------
+export interface DatasetReleasesTable {
+	version: string;
+	status: 'published' | 'withdrawn';
+	notes: string;
+	method_version: string;
+	row_count: number;
+	small_cells: ColumnType<Record<string, unknown>, string, string>;
+	manifest: ColumnType<Record<string, unknown>, string, string>;
+	manifest_jws: string;
+	published_by: string;
+	published_at: Generated<Date>;
+	withdrawn_reason: string | null;
+	withdrawn_at: Timestamp | null;
 }
 
 export interface Database {
@@ -470,6 +486,7 @@ export interface Database {
 	review_queue: ReviewQueueTable;
 	verification_draws: VerificationDrawsTable;
 	verification_visits: VerificationVisitsTable;
+	dataset_releases: DatasetReleasesTable;
 }
 
 export type District = Selectable<DistrictsTable>;
