@@ -440,6 +440,8 @@ export interface VerificationVisitsTable {
 	recorded_at: Timestamp | null;
 	confirmed_by_user_id: number | null;
 	confirmed_at: Timestamp | null;
+}
+
 // --- research dataset releases ---------------------------------------------------------------------
 export interface DatasetReleasesTable {
 	version: string;
