@@ -5,6 +5,9 @@ import { countyMapFor } from '$lib/server/rollups/county-shapes';
 import { readSettings, SETTING_KEYS, stateFyStartMonthOf, stateGoalOf } from '$lib/server/rollups/settings';
 import { fiscalYear } from '$lib/domain/fiscal-year';
 import { DEFAULT_FY_SPAN } from '$lib/schema/rollups';
+import { overdueBioreactors, overdueByDistrict, upkeepOverdueYears } from '$lib/server/events/queries';
+import { hubTimeZone } from '$lib/server/ingest/context';
+import { todayIn } from '$lib/domain/calendar-date';
 import type { PageServerLoad } from './$types';
 
 export const load = (async ({ locals }) => {
@@ -26,6 +29,12 @@ export const load = (async ({ locals }) => {
 					.execute()
 			: Promise.resolve([])
 	]);
+	const upkeepYears = await upkeepOverdueYears(db);
+	const overdue = await overdueBioreactors(db, {
+		districtId: p.role === 'district' ? (p.districtId ?? -1) : null,
+		today: todayIn(hubTimeZone()),
+		years: upkeepYears
+	});
 	const currentFy = fiscalYear(new Date().toISOString().slice(0, 10), 'state', startMonth);
 	return {
 		role: p.role,
@@ -37,6 +46,7 @@ export const load = (async ({ locals }) => {
 		goal: stateGoalOf(settings.get(SETTING_KEYS.stateGoal)),
 		currentFy,
 		defaultFrom: currentFy - DEFAULT_FY_SPAN + 1,
-		startMonth
+		startMonth,
+		upkeep: { years: upkeepYears, byDistrict: overdueByDistrict(overdue) }
 	};
 }) satisfies PageServerLoad;
