@@ -228,7 +228,7 @@ class Checker implements EventChecker {
 					this.err(
 						col,
 						'not-applicable',
-						`${col} applies to ${info.kinds!.join(', ')} events only; it is kept but means nothing for a ${kind} event.`,
+						`${col} applies to ${info.kinds!.join(', ')} events only; it is kept but not used for ${kind} events.`,
 						{ rule: 'kinds', expected: info.kinds },
 						'warning'
 					);
