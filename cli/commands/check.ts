@@ -81,7 +81,9 @@ async function check(ctx: Context, files: string[], opts: CheckOptions): Promise
 	const events = opts.type === 'events';
 	// Events: the practices they name are at the hub, so offline the known-practice and install-date rules are skipped.
 	if (events)
-		ctx.ui.info('note: not checking that each local_id is one of your practice records at the hub (only an upload can); every other rule is checked.');
+		ctx.ui.info(
+			'note: not checking that each local_id is one of your practice records at the hub (only an upload can); every other rule is checked.'
+		);
 	const { counties, from } = events ? { counties: null, from: '' } : await districtCounties(ctx, opts);
 	const stateFips = opts.state ?? (counties && counties.size > 0 ? [...counties][0].slice(0, 2) : (ctx.io.env.RUNNEL_STATE_FIPS ?? '19'));
 	if (!counties && !events)

@@ -40,7 +40,11 @@ export function registerSchema(program: Command, r: Registry): Command {
 		.command('schema')
 		.description('download the record schema (JSON Schema 2020-12) or a CSV/XLSX template')
 		.addOption(new Option('--format <format>', 'what to download').choices(Object.keys(SCHEMA_DOCUMENTS)).default('json-schema'))
-		.addOption(new Option('--type <type>', 'records: the practice record schema; events: the upkeep event schema').choices(['records', 'events']).default('records'))
+		.addOption(
+			new Option('--type <type>', 'records: the practice record schema; events: the upkeep event schema')
+				.choices(['records', 'events'])
+				.default('records')
+		)
 		.addOption(new Option('-o, --output <file>', 'write to this file (- for stdout, the default)'))
 		.addHelpText(
 			'after',

@@ -39,7 +39,11 @@ describe('runnel check --type events (offline)', () => {
 		const expected = manifest.mistakes
 			.filter((m) => !HUB_ONLY.has(m.code))
 			.map((m) => `events-mistakes.csv:${m.row}:${COLUMNS.indexOf(m.column) + 1}: ${m.severity} ${m.code}:`);
-		for (const prefix of expected) expect(lines.some((l) => l.includes(prefix)), `${prefix}\n${r.stdout}`).toBe(true);
+		for (const prefix of expected)
+			expect(
+				lines.some((l) => l.includes(prefix)),
+				`${prefix}\n${r.stdout}`
+			).toBe(true);
 		expect(lines).toHaveLength(expected.length);
 		expect(r.stderr).toContain('not checking that each local_id is one of your practice records');
 	});
@@ -47,7 +51,11 @@ describe('runnel check --type events (offline)', () => {
 	it('--json gives the same findings with rows and columns, and the clean file passes (exit 0)', async () => {
 		const r = await runCli(['check', '--type', 'events', '--json', '--today', '2026-12-01', MISTAKES, CLEAN]);
 		expect(r.code).toBe(2);
-		const out = JSON.parse(r.stdout) as Array<{ file: string; findings: Array<{ row: number; column: string; code: string }>; stats: { rows: number; schema_version: string } }>;
+		const out = JSON.parse(r.stdout) as Array<{
+			file: string;
+			findings: Array<{ row: number; column: string; code: string }>;
+			stats: { rows: number; schema_version: string };
+		}>;
 		expect(out[0].findings.map((f) => `${f.row}|${f.column}|${f.code}`)).toEqual(
 			manifest.mistakes.filter((m) => !HUB_ONLY.has(m.code)).map((m) => `${m.row}|${m.column}|${m.code}`)
 		);
@@ -68,16 +76,24 @@ describe('runnel upload --type events', () => {
 	it('a dry run of the mistakes file on the hub also finds the practice rules, and exits 2', async () => {
 		const r = await runCli(['upload', '--type', 'events', '--dry-run', '--wait', '--json', MISTAKES], asDistrict());
 		expect(r.code, r.stderr).toBe(2);
-		const [res] = JSON.parse(r.stdout) as Array<{ batch: { type: string; mode: string }; findings: Array<{ row: number; column: string; code: string }> }>;
+		const [res] = JSON.parse(r.stdout) as Array<{
+			batch: { type: string; mode: string };
+			findings: Array<{ row: number; column: string; code: string }>;
+		}>;
 		expect(res.batch.type).toBe('events');
 		expect(res.batch.mode).toBe('check');
-		expect(res.findings.map((f) => `${f.row}|${f.column}|${f.code}`).sort()).toEqual(manifest.mistakes.map((m) => `${m.row}|${m.column}|${m.code}`).sort());
+		expect(res.findings.map((f) => `${f.row}|${f.column}|${f.code}`).sort()).toEqual(
+			manifest.mistakes.map((m) => `${m.row}|${m.column}|${m.code}`).sort()
+		);
 	});
 
 	it('uploads the clean file (exit 0); running it again replays the same batch', async () => {
 		const first = await runCli(['upload', '--type', 'events', '--wait', '--json', CLEAN], asDistrict());
 		expect(first.code, first.stderr).toBe(0);
-		const [a] = JSON.parse(first.stdout) as Array<{ idempotency_key: string; batch: { id: string; type: string; counts: { rows: number; rejected: number } } }>;
+		const [a] = JSON.parse(first.stdout) as Array<{
+			idempotency_key: string;
+			batch: { id: string; type: string; counts: { rows: number; rejected: number } };
+		}>;
 		expect(a.batch.type).toBe('events');
 		expect(a.batch.counts).toMatchObject({ rows: 12, rejected: 0 });
 		expect(a.idempotency_key).toContain('.events-all.');

@@ -36,7 +36,9 @@ async function blhPractice(code: string): Promise<{ id: string; local_id: string
 
 describe('the demo seed', () => {
 	it('loaded upkeep events through the pipeline (event batches, versions from a batch)', async () => {
-		expect(await count(`select count(*) as n from batches where record_type = 'events' and committed_at is not null`)).toBeGreaterThanOrEqual(6);
+		expect(
+			await count(`select count(*) as n from batches where record_type = 'events' and committed_at is not null`)
+		).toBeGreaterThanOrEqual(6);
 		expect(await count('select count(*) as n from practice_events')).toBeGreaterThan(1000);
 		expect(await count('select count(*) as n from practice_event_versions where batch_id is null')).toBe(0);
 	});
@@ -48,7 +50,11 @@ describe('the demo events mistakes file in check mode', () => {
 	it('names the right row and column for each mistake, and writes nothing', async () => {
 		expect(manifest.mistakes.length).toBeGreaterThanOrEqual(12);
 		const before = await count('select count(*) as n from practice_events');
-		const b = await runBatch(T.district, demoFile('events-mistakes.csv'), { mode: 'check', type: 'events', fileName: 'events-mistakes.csv' });
+		const b = await runBatch(T.district, demoFile('events-mistakes.csv'), {
+			mode: 'check',
+			type: 'events',
+			fileName: 'events-mistakes.csv'
+		});
 		expect(b.status).toBe('done');
 		expect(b.type).toBe('events');
 		expect(b.schema_version).toBe('1');
@@ -58,7 +64,10 @@ describe('the demo events mistakes file in check mode', () => {
 		const findings = await allFindings(T.district, b.id);
 		for (const m of manifest.mistakes) {
 			const hit = findings.find((f) => f.row === m.row && f.column === m.column && f.code === m.code);
-			expect(hit, `${m.what}: expected ${m.code} at row ${m.row}, column ${m.column}; got ${JSON.stringify(findings.filter((f) => f.row === m.row))}`).toBeDefined();
+			expect(
+				hit,
+				`${m.what}: expected ${m.code} at row ${m.row}, column ${m.column}; got ${JSON.stringify(findings.filter((f) => f.row === m.row))}`
+			).toBeDefined();
 			expect(hit!.severity).toBe(m.severity);
 			expect(hit!.cell).toMatch(/^[A-G]\d+$/);
 			expect(hit!.message.length).toBeGreaterThan(10);
@@ -121,7 +130,9 @@ describe('sending events', () => {
 		const p = await blhPractice('605');
 		const c = await (await import('../helpers/batches')).db();
 		const ktp = (
-			await c.query(`select r.local_id from records r join districts d on d.id = r.district_id where d.code = 'KTP' order by r.local_id limit 1`)
+			await c.query(
+				`select r.local_id from records r join districts d on d.id = r.district_id where d.code = 'KTP' order by r.local_id limit 1`
+			)
 		).rows[0].local_id as string;
 		const body = csv(HEADER, [
 			[p.local_id, '2026-11-28', 'inspection', null, null, null, 'valid-mode test'],
@@ -149,7 +160,12 @@ describe('sending events', () => {
 		expect(done.counts.accepted).toBe(1);
 		// A warning (mowing is unusual for a bioreactor), not an error.
 		expect(done.findings_by_code).toEqual({ 'kind-unusual-for-practice': 1 });
-		const again = await sendBatch(T.district, body.replace('mowing', 'repair'), { mode: 'all', type: 'events', contentType: 'application/json', key });
+		const again = await sendBatch(T.district, body.replace('mowing', 'repair'), {
+			mode: 'all',
+			type: 'events',
+			contentType: 'application/json',
+			key
+		});
 		expect(again.status).toBe(422);
 		// The same bytes as records (not events) are another request too.
 		const asRecords = await sendBatch(T.district, body, { mode: 'all', contentType: 'application/json', key });
@@ -157,11 +173,17 @@ describe('sending events', () => {
 	});
 
 	it('lists event batches with ?type=events and refuses an unknown type', async () => {
-		const list = await request(await appHandler()).get('/api/v1/batches?type=events&limit=5').set('authorization', `Bearer ${T.district}`);
+		const list = await request(await appHandler())
+			.get('/api/v1/batches?type=events&limit=5')
+			.set('authorization', `Bearer ${T.district}`);
 		expect(list.status).toBe(200);
 		expect(list.body.data.length).toBeGreaterThan(0);
 		expect(list.body.data.every((b: { type: string }) => b.type === 'events')).toBe(true);
-		const bad = await request(await appHandler()).post('/api/v1/batches?type=things').set('authorization', `Bearer ${T.district}`).set('content-type', 'text/csv').send('x');
+		const bad = await request(await appHandler())
+			.post('/api/v1/batches?type=things')
+			.set('authorization', `Bearer ${T.district}`)
+			.set('content-type', 'text/csv')
+			.send('x');
 		expect(bad.status).toBe(400);
 		expect(bad.headers['content-type']).toContain('application/problem+json');
 	});

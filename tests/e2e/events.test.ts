@@ -42,9 +42,10 @@ describe('upkeep events', () => {
 
 		const rec = await (
 			await db()
-		).query<{ id: string }>(`select r.id::text as id from records r join districts d on d.id = r.district_id where d.code = 'BLH' and r.local_id = $1`, [
-			firstLocalId
-		]);
+		).query<{ id: string }>(
+			`select r.id::text as id from records r join districts d on d.id = r.district_id where d.code = 'BLH' and r.local_id = $1`,
+			[firstLocalId]
+		);
 		await page.goto(`${app.origin}/records/${rec.rows[0].id}`);
 		const timeline = page.getByRole('list', { name: `Upkeep events of ${firstLocalId}, oldest first` });
 		await timeline.waitFor();

@@ -7,12 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { createEventChecker, type EventCheckContext } from '../../src/lib/schema/check-events';
 import { practiceEventJsonSchema, PRACTICE_EVENT_SCHEMA_ID } from '../../src/lib/schema/event-json-schema';
 import { eventDataDictionary } from '../../src/lib/schema/event-dictionary';
-import {
-	EVENT_KIND_VALUES,
-	eventCsvTemplate,
-	PRACTICE_EVENT_COLUMNS,
-	PracticeEventV1Schema
-} from '../../src/lib/schema/practice-event';
+import { EVENT_KIND_VALUES, eventCsvTemplate, PRACTICE_EVENT_COLUMNS, PracticeEventV1Schema } from '../../src/lib/schema/practice-event';
 import { checkEventFile } from '../../src/lib/server/ingest/check-file';
 import { finalDemoRecords } from '../../seeds/demo/events';
 import { generateDemoRecords } from '../../seeds/demo/records';
@@ -37,7 +32,14 @@ const codes = (fs: Finding[]) => fs.map((f) => `${f.severity}:${f.code}:${f.colu
 
 describe('practice event schema', () => {
 	it('publishes a JSON Schema 2020-12 with $id, version, the kind list and the per-kind rule', () => {
-		const s = practiceEventJsonSchema() as Record<string, any>;
+		const s = practiceEventJsonSchema() as {
+			$schema: string;
+			$id: string;
+			version: string;
+			required: string[];
+			properties: Record<string, { enum?: string[]; format?: string }>;
+			allOf: unknown[];
+		};
 		expect(s.$schema).toBe('https://json-schema.org/draft/2020-12/schema');
 		expect(s.$id).toBe(PRACTICE_EVENT_SCHEMA_ID);
 		expect(s.version).toBe('1');
@@ -62,7 +64,15 @@ describe('practice event schema', () => {
 	});
 
 	it('rejects an impossible date and an unknown kind in the zod schema itself', () => {
-		const ok = { local_id: 'A', event_on: '2024-02-29', kind: 'mowing', stop_board_height_in: null, structure_id: null, media_added_cu_yd: null, notes: null };
+		const ok = {
+			local_id: 'A',
+			event_on: '2024-02-29',
+			kind: 'mowing',
+			stop_board_height_in: null,
+			structure_id: null,
+			media_added_cu_yd: null,
+			notes: null
+		};
 		expect(PracticeEventV1Schema.safeParse(ok).success).toBe(true);
 		expect(PracticeEventV1Schema.safeParse({ ...ok, event_on: '2023-02-29' }).success).toBe(false);
 		expect(PracticeEventV1Schema.safeParse({ ...ok, kind: 'weeding' }).success).toBe(false);
@@ -159,12 +169,19 @@ describe('event checker', () => {
 		const practices = new Map(
 			blh.map((r) => [
 				String(r.local_id),
-				{ practice_code: String(r.practice_code), installed_on: String(r.installed_on), withdrawn_on: (r.withdrawn_on as string | null) ?? null }
+				{
+					practice_code: String(r.practice_code),
+					installed_on: String(r.installed_on),
+					withdrawn_on: (r.withdrawn_on as string | null) ?? null
+				}
 			])
 		);
 		const findings: Finding[] = [];
 		let rows = 0;
-		for await (const e of checkEventFile(Readable.from([readFileSync(path.join(demo, 'events-mistakes.csv'))]), 'csv', { today: '2026-12-01', practices })) {
+		for await (const e of checkEventFile(Readable.from([readFileSync(path.join(demo, 'events-mistakes.csv'))]), 'csv', {
+			today: '2026-12-01',
+			practices
+		})) {
 			if (e.kind === 'row') findings.push(...e.findings);
 			if (e.kind === 'file-finding') findings.push(e.finding);
 			if (e.kind === 'end') rows = e.stats.rows;

@@ -38,7 +38,9 @@ describe('upkeep overdue rule', () => {
 	});
 
 	it('never flags a withdrawn bioreactor or one past its lifespan', () => {
-		expect(isUpkeepOverdue(bio('2018-05-10', null, { status: 'withdrawn', withdrawn_on: '2020-01-01' }), '2026-12-01', 2, LIFESPAN)).toBe(false);
+		expect(isUpkeepOverdue(bio('2018-05-10', null, { status: 'withdrawn', withdrawn_on: '2020-01-01' }), '2026-12-01', 2, LIFESPAN)).toBe(
+			false
+		);
 		expect(isUpkeepOverdue(bio('2005-05-10', null), '2026-12-01', 2, LIFESPAN)).toBe(false);
 		expect(isUpkeepOverdue(bio('2012-05-10', null), '2026-12-01', 2, LIFESPAN)).toBe(true);
 	});

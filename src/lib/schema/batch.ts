@@ -56,7 +56,9 @@ export const Batch = z.object({
 	encoding: z.string().nullable(),
 	size_bytes: z.number().int(),
 	sha256: z.string(),
-	schema_version: z.string().describe('The version of the schema the file was checked against (practice-record or practice-event, by `type`).'),
+	schema_version: z
+		.string()
+		.describe('The version of the schema the file was checked against (practice-record or practice-event, by `type`).'),
 	progress: z.object({ rows_done: z.number().int() }),
 	counts: BatchCounts,
 	findings_by_code: z.record(z.string(), z.number().int()),

@@ -62,7 +62,14 @@ class Checker implements EventChecker {
 
 	constructor(private readonly ctx: EventCheckContext) {}
 
-	private finding(p: Problem, row: number | null, col: PracticeEventColumn | null, raw: unknown, name?: string, number?: number | null): Finding {
+	private finding(
+		p: Problem,
+		row: number | null,
+		col: PracticeEventColumn | null,
+		raw: unknown,
+		name?: string,
+		number?: number | null
+	): Finding {
 		const n = number !== undefined ? number : col ? (this.numberAt[INDEX[col]] ?? null) : null;
 		return {
 			code: p.code,
@@ -238,10 +245,15 @@ class Checker implements EventChecker {
 		// 4. The date.
 		const on = rec.event_on as string | null;
 		if (on !== null && on > this.ctx.today)
-			this.err('event_on', 'date-in-future', `event_on is ${on}, which is in the future (today is ${this.ctx.today}). Send an event once it has happened.`, {
-				rule: 'not-after',
-				date: this.ctx.today
-			});
+			this.err(
+				'event_on',
+				'date-in-future',
+				`event_on is ${on}, which is in the future (today is ${this.ctx.today}). Send an event once it has happened.`,
+				{
+					rule: 'not-after',
+					date: this.ctx.today
+				}
+			);
 
 		// 5. The practice: one of the district's records; the event within its life.
 		const localId = rec.local_id as string | null;

@@ -100,7 +100,8 @@ export const PracticeEventV1Schema = z
 	.object({
 		local_id: column(z.string().regex(ID_PATTERN), {
 			title: 'Practice local id',
-			description: "The district's own id of the practice record this event belongs to (the record's `local_id`). The record must already be at the hub.",
+			description:
+				"The district's own id of the practice record this event belongs to (the record's `local_id`). The record must already be at the hub.",
 			group: 'event',
 			kind: 'text',
 			requirement: 'always',

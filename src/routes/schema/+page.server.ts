@@ -26,7 +26,12 @@ export const load = (() => ({
 		schemaId: PRACTICE_EVENT_SCHEMA_ID,
 		groups: eventDataDictionary(),
 		furtherChecks: [...EVENT_FURTHER_CHECKS],
-		kinds: EVENT_KIND_VALUES.map((k) => ({ kind: k, title: EVENT_KINDS[k].title, description: EVENT_KINDS[k].description, practices: EVENT_KINDS[k].practices })),
+		kinds: EVENT_KIND_VALUES.map((k) => ({
+			kind: k,
+			title: EVENT_KINDS[k].title,
+			description: EVENT_KINDS[k].description,
+			practices: EVENT_KINDS[k].practices
+		})),
 		files: { csv: EVENT_CSV_TEMPLATE_FILE_NAME, xlsx: EVENT_XLSX_TEMPLATE_FILE_NAME }
 	}
 })) satisfies PageServerLoad;

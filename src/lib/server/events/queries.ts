@@ -68,7 +68,10 @@ export interface OverdueBioreactor {
 }
 
 /** In-service bioreactors with no media top-up or inspection within `years` before `today`. */
-export async function overdueBioreactors(db: Db, opts: { districtId: number | null; today: string; years: number }): Promise<OverdueBioreactor[]> {
+export async function overdueBioreactors(
+	db: Db,
+	opts: { districtId: number | null; today: string; years: number }
+): Promise<OverdueBioreactor[]> {
 	let q = db
 		.selectFrom('records as r')
 		.innerJoin('districts as d', 'd.id', 'r.district_id')
@@ -92,7 +95,14 @@ export async function overdueBioreactors(db: Db, opts: { districtId: number | nu
 	const rows = await q.orderBy('d.name').orderBy('r.local_id').execute();
 	const lifespan = practiceByCode(BIOREACTOR_CODE)!.lifespan_years;
 	return rows
-		.filter((r) => isUpkeepOverdue({ installed_on: r.installed_on, status: r.status, withdrawn_on: r.withdrawn_on, last_upkeep_on: r.last_upkeep_on }, opts.today, opts.years, lifespan))
+		.filter((r) =>
+			isUpkeepOverdue(
+				{ installed_on: r.installed_on, status: r.status, withdrawn_on: r.withdrawn_on, last_upkeep_on: r.last_upkeep_on },
+				opts.today,
+				opts.years,
+				lifespan
+			)
+		)
 		.map((r) => ({
 			record_id: String(r.id),
 			local_id: r.local_id,

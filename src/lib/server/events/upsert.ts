@@ -30,7 +30,9 @@ export async function upsertEvents(trx: Transaction<Database>, ctx: UpsertContex
 			as u(local_id, event_on, kind) on e.local_id = u.local_id and e.event_on = u.event_on and e.kind = u.kind
 		where e.district_id = ${ctx.districtId}
 		${ctx.dryRun ? sql`` : sql`for update of e`}`.execute(trx);
-	const byId = new Map(current.rows.map((r) => [eventIdentity({ local_id: r.local_id, event_on: r.event_on, kind: r.kind as PracticeEventV1['kind'] }), r]));
+	const byId = new Map(
+		current.rows.map((r) => [eventIdentity({ local_id: r.local_id, event_on: r.event_on, kind: r.kind as PracticeEventV1['kind'] }), r])
+	);
 
 	const toCreate: number[] = [];
 	const toUpdate: number[] = [];

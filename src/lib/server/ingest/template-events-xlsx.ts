@@ -16,7 +16,12 @@ function validationFor(col: PracticeEventColumn, topLeft: string): Validation | 
 	const s = eventColumnJsonSchema(col);
 	const common = { allowBlank: info.requirement !== 'always', showErrorMessage: true, errorStyle: 'stop', errorTitle: info.title };
 	if (Array.isArray(s.enum))
-		return { ...common, type: 'list', formulae: [`"${(s.enum as string[]).join(',')}"`], error: `Use one of: ${(s.enum as string[]).join(', ')}.` };
+		return {
+			...common,
+			type: 'list',
+			formulae: [`"${(s.enum as string[]).join(',')}"`],
+			error: `Use one of: ${(s.enum as string[]).join(', ')}.`
+		};
 	if (info.kind === 'date')
 		return {
 			...common,
@@ -31,9 +36,21 @@ function validationFor(col: PracticeEventColumn, topLeft: string): Validation | 
 		return { ...common, type: 'decimal', operator: 'between', formulae: [low, hi], error: `Enter a number from ${lo} to ${hi}.` };
 	}
 	if (typeof s.maxLength === 'number')
-		return { ...common, type: 'textLength', operator: 'lessThanOrEqual', formulae: [s.maxLength], error: `At most ${s.maxLength} characters.` };
+		return {
+			...common,
+			type: 'textLength',
+			operator: 'lessThanOrEqual',
+			formulae: [s.maxLength],
+			error: `At most ${s.maxLength} characters.`
+		};
 	if (col === 'local_id')
-		return { ...common, type: 'textLength', operator: 'between', formulae: [1, 64], error: '1 to 64 characters: letters, digits, dot, underscore, hyphen.' };
+		return {
+			...common,
+			type: 'textLength',
+			operator: 'between',
+			formulae: [1, 64],
+			error: '1 to 64 characters: letters, digits, dot, underscore, hyphen.'
+		};
 	return null;
 }
 

@@ -13,7 +13,11 @@ export const load = (async ({ locals, url }) => {
 	let districtId: number | null = null;
 	let district: { code: string; name: string } | null = null;
 	if (p.role === 'district') {
-		const own = await db.selectFrom('districts').select(['id', 'code', 'name']).where('id', '=', p.districtId ?? -1).executeTakeFirst();
+		const own = await db
+			.selectFrom('districts')
+			.select(['id', 'code', 'name'])
+			.where('id', '=', p.districtId ?? -1)
+			.executeTakeFirst();
 		if (!own || (code && code !== own.code)) error(404, 'No such district');
 		districtId = own.id;
 		district = { code: own.code, name: own.name };
