@@ -11,6 +11,8 @@ import type { ReductionMethod } from '../../src/lib/domain/reduction-method';
 import type { Me } from './whoami';
 
 interface CheckOptions {
+	/** What the files hold: practice records (default) or upkeep events. */
+	type?: 'records' | 'events';
 	sheet?: string;
 	format?: FileFormat;
 	district?: string;
@@ -95,13 +97,20 @@ async function check(ctx: Context, files: string[], opts: CheckOptions): Promise
 	if (opts.state !== undefined && !/^\d{2}$/.test(opts.state)) throw new UsageError('--state takes a 2-digit state FIPS code (e.g. 19).');
 	if (opts.today !== undefined && !/^\d{4}-\d{2}-\d{2}$/.test(opts.today)) throw new UsageError('--today takes a date as YYYY-MM-DD.');
 	// The shared checker (zod schema, county shapes) loads only when something is checked.
-	const [{ checkFile }, { offlineCheckContext }] = await Promise.all([
+	const [{ checkFile, checkEventFile }, { offlineCheckContext, hubTimeZone }, { todayIn }] = await Promise.all([
 		import('../../src/lib/server/ingest/check-file'),
-		import('../../src/lib/server/ingest/context')
+		import('../../src/lib/server/ingest/context'),
+		import('../../src/lib/domain/calendar-date')
 	]);
-	const { counties, from } = await districtCounties(ctx, opts);
+	const events = opts.type === 'events';
+	// Events: the practices they name are at the hub, so offline the known-practice and install-date rules are skipped.
+	if (events)
+		ctx.ui.info(
+			'note: not checking that each local_id is one of your practice records at the hub (only an upload can); every other rule is checked.'
+		);
+	const { counties, from } = events ? { counties: null, from: '' } : await districtCounties(ctx, opts);
 	const stateFips = opts.state ?? (counties && counties.size > 0 ? [...counties][0].slice(0, 2) : (ctx.io.env.RUNNEL_STATE_FIPS ?? '19'));
-	if (!counties)
+	if (!counties && !events)
 		ctx.ui.info(`note: not checking that counties are served by your district (${from}); give --district, --counties, or log in.`);
 	const screening = await screeningMethod(ctx, opts);
 	if (!screening.method)
@@ -135,7 +144,10 @@ async function check(ctx: Context, files: string[], opts: CheckOptions): Promise
 			} else await ctx.ui.line(formatFinding(label, f, ctx.ui));
 		};
 		try {
-			for await (const e of checkFile(input, format, checkCtx, { sheet: opts.sheet })) {
+			const checked = events
+				? checkEventFile(input, format, { today: opts.today ?? todayIn(hubTimeZone()), practices: null }, { sheet: opts.sheet })
+				: checkFile(input, format, checkCtx, { sheet: opts.sheet });
+			for await (const e of checked) {
 				if (e.kind === 'file-finding') await emit(e.finding);
 				else if (e.kind === 'row') for (const f of e.findings) await emit(f);
 				else if (e.kind === 'end') {
@@ -162,6 +174,11 @@ export function registerCheck(program: Command, r: Registry): Command {
 		.command('check')
 		.description("check files offline with the hub's own rules; nothing is sent")
 		.argument('<file...>', 'files to check (CSV, XLSX, NDJSON, JSON); - reads stdin (then pass --format)')
+		.addOption(
+			new Option('--type <type>', 'records: practice records; events: upkeep events (schema practice-event)')
+				.choices(['records', 'events'])
+				.default('records')
+		)
 		.option('--sheet <name>', 'the XLSX sheet to read (default: the first)')
 		.addOption(new Option('--format <format>', 'the file format when the name does not tell it').choices([...FILE_FORMATS]))
 		.option('--district <code>', "check counties against this district's (asked of the hub)")
@@ -187,7 +204,8 @@ Examples:
   $ runnel check practices.csv
   $ runnel check --json practices.xlsx --sheet 2026 | jq '.[0].stats'
   $ runnel check --offline --counties 19109,19063 practices.csv
-  $ export-practices | runnel check --format ndjson -`
+  $ export-practices | runnel check --format ndjson -
+  $ runnel check --type events upkeep.csv      (upkeep events)`
 		)
 		.action(r.action((ctx, files, opts) => check(ctx, files as string[], opts as CheckOptions)));
 }

@@ -17,8 +17,10 @@ export const SCHEMA_DOCUMENTS = {
 
 type SchemaFormat = keyof typeof SCHEMA_DOCUMENTS;
 
-async function schema(ctx: Context, opts: { format: SchemaFormat; output?: string }): Promise<number> {
-	const doc = SCHEMA_DOCUMENTS[opts.format];
+async function schema(ctx: Context, opts: { format: SchemaFormat; output?: string; type?: 'records' | 'events' }): Promise<number> {
+	const base = SCHEMA_DOCUMENTS[opts.format];
+	// The upkeep-events schema sits beside the record schema under the same names.
+	const doc = opts.type === 'events' ? { ...base, path: base.path.replace('practice-record', 'practice-event') } : base;
 	const sink = openSink(ctx.io, opts.output, { binary: doc.binary });
 	try {
 		// The schema is public: no token needed (one is sent when known).
@@ -38,6 +40,11 @@ export function registerSchema(program: Command, r: Registry): Command {
 		.command('schema')
 		.description('download the record schema (JSON Schema 2020-12) or a CSV/XLSX template')
 		.addOption(new Option('--format <format>', 'what to download').choices(Object.keys(SCHEMA_DOCUMENTS)).default('json-schema'))
+		.addOption(
+			new Option('--type <type>', 'records: the practice record schema; events: the upkeep event schema')
+				.choices(['records', 'events'])
+				.default('records')
+		)
 		.addOption(new Option('-o, --output <file>', 'write to this file (- for stdout, the default)'))
 		.addHelpText(
 			'after',
@@ -45,7 +52,8 @@ export function registerSchema(program: Command, r: Registry): Command {
 Examples:
   $ runnel schema > practice-record.schema.json
   $ runnel schema --format csv-template -o practices.csv
-  $ runnel schema --format xlsx-template -o practices.xlsx`
+  $ runnel schema --format xlsx-template -o practices.xlsx
+  $ runnel schema --type events --format csv-template -o upkeep.csv`
 		)
-		.action(r.action((ctx, opts) => schema(ctx, opts as { format: SchemaFormat; output?: string })));
+		.action(r.action((ctx, opts) => schema(ctx, opts as { format: SchemaFormat; output?: string; type?: 'records' | 'events' })));
 }

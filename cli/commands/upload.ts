@@ -21,6 +21,8 @@ import type { Me } from './whoami';
 
 export interface UploadOptions {
 	mode: 'all' | 'valid' | 'check';
+	/** What the files hold: practice records (default) or upkeep events. */
+	type: 'records' | 'events';
 	dryRun?: boolean;
 	wait?: boolean;
 	idempotencyKey?: string;
@@ -105,7 +107,9 @@ async function uploadOne(
 		const file = spooled?.file ?? input;
 		const size = fileSize(file);
 		const { sha256 } = await hashFile(file);
-		const key = opts.idempotencyKey ?? deriveIdempotencyKey({ district: await district(), mode: opts.mode, sha256, sheet: opts.sheet });
+		// Events get keys of their own (the same bytes sent as records would be another request).
+		const keyMode = opts.type === 'events' ? `events-${opts.mode}` : opts.mode;
+		const key = opts.idempotencyKey ?? deriveIdempotencyKey({ district: await district(), mode: keyMode, sha256, sheet: opts.sheet });
 
 		const progress = fileProgress(ui, label, size);
 		let answer;
@@ -113,7 +117,7 @@ async function uploadOne(
 			answer = await client.json<BatchView>({
 				method: 'POST',
 				path: '/api/v1/batches',
-				query: { mode: opts.mode, district: opts.district, sheet: opts.sheet },
+				query: { mode: opts.mode, type: opts.type === 'events' ? 'events' : undefined, district: opts.district, sheet: opts.sheet },
 				headers: {
 					'content-type': CONTENT_TYPES[format],
 					'idempotency-key': key,
@@ -203,12 +207,17 @@ async function upload(ctx: Context, files: string[], opts: UploadOptions): Promi
 export function registerUpload(program: Command, r: Registry): Command {
 	return program
 		.command('upload')
-		.description('send files of practice records to the hub as batches (CSV, XLSX, NDJSON or JSON)')
+		.description('send files of practice records (or, with --type events, upkeep events) to the hub as batches (CSV, XLSX, NDJSON or JSON)')
 		.argument('<file...>', 'files to send; - reads stdin (then pass --format)')
 		.addOption(
 			new Option('--mode <mode>', 'all: all or nothing; valid: save the valid rows; check: dry run')
 				.choices(['all', 'valid', 'check'])
 				.default('all')
+		)
+		.addOption(
+			new Option('--type <type>', 'records: practice records; events: upkeep events (schema practice-event)')
+				.choices(['records', 'events'])
+				.default('records')
 		)
 		.option('--dry-run', 'same as --mode check: the hub checks the file and saves nothing')
 		.option('--wait', 'follow each batch until it is checked, print its findings, and exit 2 if rows were rejected')
@@ -244,7 +253,8 @@ Examples:
   $ runnel upload --mode valid --wait --quiet nightly/*.csv
   $ runnel upload --dry-run --wait practices.xlsx --sheet "2026"
   $ export-practices | runnel upload --format ndjson --wait -
-  $ runnel upload --district BLH --wait blh.csv        (a state-wide token)`
+  $ runnel upload --district BLH --wait blh.csv        (a state-wide token)
+  $ runnel upload --type events --wait upkeep.csv      (upkeep events)`
 		)
 		.action(r.action((ctx, files, opts) => upload(ctx, files as string[], opts as UploadOptions)));
 }

@@ -13,6 +13,7 @@ import { closeObjectStore } from '../../src/lib/server/storage/object-store';
 import { toCsv } from './csv';
 import { flaggedDemoRows } from './flagged';
 import { generateDemoRecords } from './records';
+import { eventsToCsv, generateDemoEvents } from './events';
 
 /** The seed acts as a system client with the administrator's right to name the district. */
 const SEED_PRINCIPAL: Principal = {
@@ -27,7 +28,13 @@ const SEED_PRINCIPAL: Principal = {
 	expiresAt: null
 };
 
-async function sendFile(district: string, fileName: string, csv: string, log: (m: string) => void): Promise<void> {
+async function sendFile(
+	district: string,
+	fileName: string,
+	csv: string,
+	log: (m: string) => void,
+	recordType: 'records' | 'events' = 'records'
+): Promise<void> {
 	const bytes = Buffer.from(csv, 'utf8');
 	const sha256 = createHash('sha256').update(bytes).digest('hex');
 	const db = getDb();
@@ -42,12 +49,13 @@ async function sendFile(district: string, fileName: string, csv: string, log: (m
 	if (done) return;
 	const answer = await createBatch(SEED_PRINCIPAL, {
 		mode: 'all',
+		recordType,
 		format: 'csv',
 		contentType: 'text/csv',
 		districtCode: district,
 		sheet: null,
 		fileName,
-		idempotencyKey: `demo-seed:${district}:${sha256}`,
+		idempotencyKey: `demo-seed:${recordType === 'events' ? 'events:' : ''}${district}:${sha256}`,
 		contentLength: bytes.length,
 		body: Readable.from([bytes])
 	});
@@ -70,7 +78,7 @@ async function sendFile(district: string, fileName: string, csv: string, log: (m
 				findings.map((f) => `row ${f.row} ${f.column}: ${f.message}`).join('; ')
 		);
 	}
-	log(`demo records ${fileName}: ${b.rows} rows, ${b.created} created, ${b.updated} updated, ${b.withdrawn} withdrawn`);
+	log(`demo ${recordType} ${fileName}: ${b.rows} rows, ${b.created} created, ${b.updated} updated, ${b.withdrawn} withdrawn`);
 }
 
 export async function seedDemoRecords(log: (m: string) => void = () => {}): Promise<void> {
@@ -81,6 +89,8 @@ export async function seedDemoRecords(log: (m: string) => void = () => {}): Prom
 			// Accepted with warnings: they wait in the review queue.
 			await sendFile(d.district, `${d.district.toLowerCase()}-flagged.csv`, toCsv(flaggedDemoRows(d)), log);
 		}
+		// Upkeep events of the same records, through the same pipeline (type events), after all records.
+		for (const d of generateDemoEvents()) await sendFile(d.district, `${d.district.toLowerCase()}-upkeep.csv`, eventsToCsv(d.rows), log, 'events');
 	} finally {
 		await stopBoss();
 		await closeObjectStore();

@@ -21,6 +21,8 @@ export interface SendOptions {
 	district?: string;
 	fileName?: string;
 	sheet?: string;
+	/** `events`: an upkeep-events batch (`type=events`); default practice records. */
+	type?: 'records' | 'events';
 }
 
 type Target = Parameters<typeof request>[0];
@@ -29,6 +31,7 @@ type Target = Parameters<typeof request>[0];
 export async function sendBatch(token: string, body: Buffer | string, opts: SendOptions = {}, target?: Target) {
 	const mode = opts.mode ?? 'check';
 	const q = new URLSearchParams({ mode });
+	if (opts.type) q.set('type', opts.type);
 	if (opts.district) q.set('district', opts.district);
 	if (opts.sheet) q.set('sheet', opts.sheet);
 	let req = request(target ?? (await appHandler()))

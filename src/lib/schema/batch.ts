@@ -7,6 +7,15 @@ export const BATCH_MODES = ['check', 'all', 'valid'] as const;
 export const BatchMode = z.enum(BATCH_MODES);
 export type BatchMode = z.infer<typeof BatchMode>;
 
+/** What a batch carries: practice records (schema practice-record) or upkeep events (schema practice-event). */
+export const BATCH_TYPES = ['records', 'events'] as const;
+export const BatchType = z.enum(BATCH_TYPES);
+export type BatchType = z.infer<typeof BatchType>;
+export const BATCH_TYPE_LABELS: Record<BatchType, string> = {
+	records: 'Practice records',
+	events: 'Upkeep events (top-ups, structure settings, mowing, repairs, inspections)'
+};
+
 export const BATCH_STATUSES = ['received', 'checking', 'done', 'failed'] as const;
 export const BatchStatus = z.enum(BATCH_STATUSES);
 export type BatchStatus = z.infer<typeof BatchStatus>;
@@ -36,6 +45,7 @@ export const Batch = z.object({
 	id: z.string(),
 	district: z.object({ code: z.string(), name: z.string() }),
 	mode: BatchMode,
+	type: BatchType.describe('What the file holds: `records` (practice records) or `events` (upkeep events).'),
 	status: BatchStatus,
 	valid: z.boolean().nullable().describe('True when no finding is an error; null until checked.'),
 	committed: z.boolean().describe('True when the batch wrote to the records (never for `check`).'),
@@ -46,7 +56,9 @@ export const Batch = z.object({
 	encoding: z.string().nullable(),
 	size_bytes: z.number().int(),
 	sha256: z.string(),
-	schema_version: z.string(),
+	schema_version: z
+		.string()
+		.describe('The version of the schema the file was checked against (practice-record or practice-event, by `type`).'),
 	progress: z.object({ rows_done: z.number().int() }),
 	counts: BatchCounts,
 	findings_by_code: z.record(z.string(), z.number().int()),

@@ -64,14 +64,14 @@ const quoted = (v: unknown) => `"${display(v)}"`;
 /** A cell value for a message; personal columns never show theirs. */
 const shownValue = (col: string, v: unknown) => (isPracticeRecordColumn(col) && COLUMN_INFO[col].personal ? `"${REDACTED}"` : quoted(v));
 
-interface Problem {
+export interface Problem {
 	code: string;
 	severity: FindingSeverity;
 	message: string;
 	rule: Record<string, unknown> | null;
 }
 
-function display(v: unknown): string | null {
+export function display(v: unknown): string | null {
 	if (v === null || v === undefined) return null;
 	let s: string;
 	if (v instanceof Date) s = isoDateOfUtc(v) ?? String(v);
@@ -121,9 +121,15 @@ function wrongTypeProblem(col: string, kind: ColumnKind, detail: string): Proble
 	};
 }
 
-/** The checks of one cell, by column kind. Returns the parsed value or a problem. */
-function readCell(col: PracticeRecordColumn, raw: unknown): { value: unknown; problem?: Problem; warnings?: Problem[] } {
-	const info = COLUMN_INFO[col];
+/**
+ * The checks of one cell, by column kind. Returns the parsed value or a problem. `info` defaults to the
+ * record column's; the event checker (check-events.ts) passes its own columns' name and kind.
+ */
+export function readCell(
+	col: string,
+	raw: unknown,
+	info: { name: string; kind: ColumnKind } = COLUMN_INFO[col as PracticeRecordColumn]
+): { value: unknown; problem?: Problem; warnings?: Problem[] } {
 	if (typeof raw === 'string' && raw.trim() === '') return { value: null };
 	if (raw === null || raw === undefined) return { value: null };
 
@@ -346,7 +352,12 @@ function dateProblem(col: string, s: string, r: ReturnType<typeof parseDateText>
 }
 
 /** Maps the first zod issue of a column to a plain finding. */
-function zodProblem(col: PracticeRecordColumn, value: unknown, issue: z.core.$ZodIssue): Problem {
+export function zodProblem(
+	col: string,
+	value: unknown,
+	issue: z.core.$ZodIssue,
+	hint: string | null = isPracticeRecordColumn(col) ? COLUMN_INFO[col].hint : null
+): Problem {
 	const shown = shownValue(col, value);
 	switch (issue.code) {
 		case 'too_small':
@@ -400,7 +411,6 @@ function zodProblem(col: PracticeRecordColumn, value: unknown, issue: z.core.$Zo
 				rule: { rule: 'enum', expected: issue.values }
 			};
 		case 'invalid_format': {
-			const hint = COLUMN_INFO[col].hint;
 			const pattern = 'pattern' in issue && issue.pattern ? String(issue.pattern).replace(/^\/|\/$/g, '') : undefined;
 			let message = `${q(col)} is ${shown}, which is not in the right form${hint ? ` (${hint})` : ''}.`;
 			if (col === 'county_fips' && /^\d{4}$/.test(String(value)))
@@ -439,7 +449,7 @@ function zodProblem(col: PracticeRecordColumn, value: unknown, issue: z.core.$Zo
 }
 
 // Headers match case-insensitively, with spaces or hyphens standing for underscores (`Local ID`).
-const normaliseHeader = (s: string) =>
+export const normaliseHeader = (s: string) =>
 	s
 		.trim()
 		.toLowerCase()

@@ -6,6 +6,9 @@ import { readSettings, SETTING_KEYS, stateFyStartMonthOf, stateGoalOf } from '$l
 import { fiscalYear } from '$lib/domain/fiscal-year';
 import { DEFAULT_FY_SPAN } from '$lib/schema/rollups';
 import { verificationSummary } from '$lib/server/verification/draws';
+import { overdueBioreactors, overdueByDistrict, upkeepOverdueYears } from '$lib/server/events/queries';
+import { hubTimeZone } from '$lib/server/ingest/context';
+import { todayIn } from '$lib/domain/calendar-date';
 import type { PageServerLoad } from './$types';
 
 export const load = (async ({ locals }) => {
@@ -27,6 +30,12 @@ export const load = (async ({ locals }) => {
 					.execute()
 			: Promise.resolve([])
 	]);
+	const upkeepYears = await upkeepOverdueYears(db);
+	const overdue = await overdueBioreactors(db, {
+		districtId: p.role === 'district' ? (p.districtId ?? -1) : null,
+		today: todayIn(hubTimeZone()),
+		years: upkeepYears
+	});
 	const currentFy = fiscalYear(new Date().toISOString().slice(0, 10), 'state', startMonth);
 	return {
 		role: p.role,
@@ -40,6 +49,7 @@ export const load = (async ({ locals }) => {
 		defaultFrom: currentFy - DEFAULT_FY_SPAN + 1,
 		startMonth,
 		// Field verification: share verified working per district in the latest sample.
-		verification: await verificationSummary(db, p)
+		verification: await verificationSummary(db, p),
+		upkeep: { years: upkeepYears, byDistrict: overdueByDistrict(overdue) }
 	};
 }) satisfies PageServerLoad;

@@ -1,6 +1,6 @@
 // The intake paths: batches (uploads), their findings, and practice records.
 import { z } from 'zod';
-import { BATCH_MODES, BATCH_STATUSES, Batch, BatchFindingPage, BatchPage } from '../batch';
+import { BATCH_MODES, BATCH_STATUSES, BATCH_TYPES, Batch, BatchFindingPage, BatchPage } from '../batch';
 import {
 	BioreactorScreening,
 	EstimateBreakdown,
@@ -12,7 +12,7 @@ import {
 } from '../record-api';
 import { problems } from './common';
 import { needsToken, registry } from './registry';
-import { practiceRecordRef } from './schema-routes';
+import { practiceEventRef, practiceRecordRef } from './schema-routes';
 
 // `.meta()` makes copies created after the OpenAPI extension of zod (./registry.ts): the originals in
 // ../batch.ts and ../record-api.ts may be built first (the browser uses them too) and lack `.openapi`.
@@ -77,9 +77,11 @@ registry.registerPath({
 	method: 'post',
 	path: '/api/v1/batches',
 	tags: ['Batches'],
-	summary: 'Send a file of practice records',
+	summary: 'Send a file of practice records (or of upkeep events)',
 	description: [
 		'The raw body is the file: CSV (UTF-8, with or without BOM; Windows-1252 is detected and reported), XLSX (first sheet, or `sheet=`), NDJSON, or a JSON array of records. The body is streamed and archived; the answer is 202 with `Location`; poll it until `status` is `done`.',
+		'',
+		'`type=events` sends upkeep events (schema `/api/v1/schema/practice-event.json`) instead of practice records: each event names a practice of the district by `local_id`; an event is identified by district, `local_id`, `event_on` and `kind`, so sending it again leaves it unchanged or makes a new version.',
 		'',
 		'`check` writes nothing and reports what would happen; `all` saves nothing if any row has an error; `valid` saves the valid rows and reports the rest.',
 		'',
@@ -89,6 +91,7 @@ registry.registerPath({
 	request: {
 		query: z.object({
 			mode: z.enum(BATCH_MODES).optional().meta({ description: 'Default `check`.' }),
+			type: z.enum(BATCH_TYPES).optional().meta({ description: 'What the file holds: `records` (default) or `events`.' }),
 			district: districtCode.meta({ description: 'Required for administrators; district staff always send for their own district.' }),
 			sheet: z.string().optional().meta({ description: 'XLSX: the sheet to read (default: the first).' })
 		}),
@@ -105,7 +108,7 @@ registry.registerPath({
 				'text/csv': { schema: z.string().meta({ description: 'CSV with the schema columns as header.' }) },
 				[XLSX]: { schema: z.string().meta({ format: 'binary' }) },
 				'application/x-ndjson': { schema: z.string().meta({ description: 'One JSON record per line.' }) },
-				'application/json': { schema: { type: 'array', items: practiceRecordRef } }
+				'application/json': { schema: { type: 'array', items: { oneOf: [practiceRecordRef, practiceEventRef] } } }
 			}
 		}
 	},
@@ -137,6 +140,7 @@ registry.registerPath({
 			district: districtCode,
 			status: z.enum(BATCH_STATUSES).optional(),
 			mode: z.enum(BATCH_MODES).optional(),
+			type: z.enum(BATCH_TYPES).optional(),
 			...page
 		})
 	},

@@ -65,6 +65,7 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/batches/[id]': { GET: roles('district', 'manager', 'admin') },
 	'/records': { GET: roles('district', 'manager', 'admin') },
 	'/records/[id]': { GET: roles('district', 'manager', 'admin') },
+	'/records/upkeep-overdue': { GET: roles('district', 'manager', 'admin') },
 	'/schema': { GET: publicAccess },
 	'/dashboard': { GET: roles('admin', 'manager', 'district') },
 	// reviews and field verification
@@ -105,6 +106,9 @@ export const PERMISSIONS: Record<string, RouteRules> = {
 	'/api/v1/schema/practice-record.json': { GET: publicAccess },
 	'/api/v1/schema/practice-record.csv': { GET: publicAccess },
 	'/api/v1/schema/practice-record.xlsx': { GET: publicAccess },
+	'/api/v1/schema/practice-event.json': { GET: publicAccess },
+	'/api/v1/schema/practice-event.csv': { GET: publicAccess },
+	'/api/v1/schema/practice-event.xlsx': { GET: publicAccess },
 	'/api/docs': { GET: publicAccess },
 	'/api/docs/[asset]': { GET: publicAccess },
 	'/dataset': { GET: roles('researcher', 'manager', 'admin'), POST: roles('manager', 'admin') },

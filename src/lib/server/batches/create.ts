@@ -3,13 +3,13 @@
 // transaction. The answer is 202 + Location; a worker does the checking (process.ts).
 import { createHash } from 'node:crypto';
 import { sql } from 'kysely';
-import { SCHEMA_VERSION } from './intake-schema';
+import { EVENT_SCHEMA_VERSION, SCHEMA_VERSION } from './intake-schema';
 import type { Batch } from '$lib/schema/batch';
 import type { Principal } from '../auth/principal';
 import { actorOf } from '../auth/principal';
 import { config } from '../config';
 import { getDb } from '../db';
-import type { BatchMode, UploadFormat } from '../db/schema';
+import type { BatchMode, BatchRecordType, UploadFormat } from '../db/schema';
 import { ApiError } from '../http/problem';
 import { logger } from '../log';
 import { writableDistrict } from '../records/access';
@@ -24,6 +24,8 @@ export const IDEMPOTENCY_TTL_HOURS = Math.max(24, Number(process.env.IDEMPOTENCY
 
 export interface NewBatchInput {
 	mode: BatchMode;
+	/** What the file holds: practice records (default) or upkeep events. */
+	recordType?: BatchRecordType;
 	format: UploadFormat;
 	contentType: string;
 	districtCode: string | null;
@@ -67,10 +69,11 @@ export function checkIdempotencyKey(mode: BatchMode, key: string | null): void {
 		});
 }
 
-function fingerprintOf(districtId: number, mode: BatchMode, sheet: string | null, sha256: string): string {
-	return createHash('sha256')
-		.update(JSON.stringify([districtId, mode, sheet ?? '', sha256]))
-		.digest('hex');
+function fingerprintOf(districtId: number, mode: BatchMode, sheet: string | null, sha256: string, recordType: BatchRecordType): string {
+	// Record batches keep the fingerprint they always had; event batches add their type.
+	const parts: unknown[] = [districtId, mode, sheet ?? '', sha256];
+	if (recordType !== 'records') parts.push(recordType);
+	return createHash('sha256').update(JSON.stringify(parts)).digest('hex');
 }
 
 const EXTENSIONS: Record<UploadFormat, string> = { csv: 'csv', xlsx: 'xlsx', ndjson: 'ndjson', json: 'json' };
@@ -117,7 +120,8 @@ export async function createBatch(principal: Principal, input: NewBatchInput): P
 	const received = await receiveToTempFile(input.body, config.maxUploadBytes, input.contentLength);
 	try {
 		const scope = idempotencyScope(principal);
-		const fingerprint = fingerprintOf(district.id, input.mode, input.sheet, received.sha256);
+		const recordType = input.recordType ?? 'records';
+		const fingerprint = fingerprintOf(district.id, input.mode, input.sheet, received.sha256, recordType);
 		if (input.idempotencyKey) {
 			const existing = await findKey(scope, input.idempotencyKey);
 			if (existing) return replay(existing, fingerprint);
@@ -162,7 +166,8 @@ export async function createBatch(principal: Principal, input: NewBatchInput): P
 						size_bytes: received.size,
 						sha256: received.sha256,
 						archive_key: key,
-						schema_version: SCHEMA_VERSION,
+						schema_version: recordType === 'events' ? EVENT_SCHEMA_VERSION : SCHEMA_VERSION,
+						record_type: recordType,
 						actor: actorOf(principal),
 						user_id: principal.userId
 					})

@@ -6,7 +6,8 @@ import { detectFormat } from '../ingest/read-rows';
 
 export { createRecordChecker, type CheckContext } from '$lib/schema/check-records';
 export { SCHEMA_VERSION, type PracticeRecordV1 } from '$lib/schema/practice-record';
-export { checkFile } from '../ingest/check-file';
+export { checkEventFile, checkFile, type CheckEventOf } from '../ingest/check-file';
+export { EVENT_SCHEMA_VERSION } from '$lib/schema/practice-event';
 export { loadCheckContext } from '../ingest/context';
 export { declaredCharset } from '../ingest/read-rows';
 

@@ -15,7 +15,10 @@ import { logger } from '../log';
 import { queueMail } from '../mail/queue';
 import { tryLockDistrictRecords, upsertRecords, type IncomingRecord, type Outcome } from '../records/upsert';
 import { getObjectStore } from '../storage/object-store';
-import { checkFile, declaredCharset, loadCheckContext } from './intake-schema';
+import { checkEventFile, checkFile, declaredCharset, loadCheckContext, type CheckEventOf } from './intake-schema';
+import { loadEventCheckContext } from '../events/context';
+import { upsertEvents } from '../events/upsert';
+import type { PracticeEventV1 } from '$lib/schema/practice-event';
 
 const CHUNK_ROWS = Number(process.env.BATCH_CHUNK_ROWS ?? 1000);
 const FINDINGS_FLUSH = 1000;
@@ -84,6 +87,7 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 			'b.actor',
 			'b.file_name',
 			'b.content_type',
+			'b.record_type',
 			'd.code as district_code',
 			'd.name as district_name',
 			'd.contacts',
@@ -111,6 +115,8 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 	const ctx = await loadCheckContext(db, { districtId: batch.district_id });
 	const store = await getObjectStore();
 	const mode = batch.mode as BatchMode;
+	/** Upkeep events (schema practice-event) rather than practice records. */
+	const isEvents = batch.record_type === 'events';
 
 	const tally: Tally = {
 		rows: 0,
@@ -182,7 +188,16 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 		const dryRun = !writes || (mode === 'all' && tally.errors > 0) || tally.fileErrors > 0;
 		const previous = inflight;
 		if (previous) await previous;
-		const write = upsertRecords(trx, { districtId: batch.district_id, batchId, actor: batch.actor, dryRun }, items).then((res) => {
+		const uctx = { districtId: batch.district_id, batchId, actor: batch.actor, dryRun };
+		const write = (
+			isEvents
+				? upsertEvents(
+						trx,
+						uctx,
+						items.map((it) => it.record as unknown as PracticeEventV1)
+					)
+				: upsertRecords(trx, uctx, items)
+		).then((res) => {
 			for (const o of res.outcomes) tally.outcomes[o]++;
 		});
 		// Observed here so a failure is not "unhandled" while reading goes on; it is thrown at the next await.
@@ -206,10 +221,11 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 				await heartbeat(true);
 			}
 		try {
-			const events = checkFile(guarded, batch.format, ctx, {
-				sheet: batch.sheet ?? undefined,
-				encoding: declaredCharset(batch.content_type)
-			});
+			const readOpts = { sheet: batch.sheet ?? undefined, encoding: declaredCharset(batch.content_type) };
+			// Events are checked against the district's records as they stand under the write lock.
+			const events: AsyncIterable<CheckEventOf<unknown>> = isEvents
+				? checkEventFile(guarded, batch.format, await loadEventCheckContext(trx, batch.district_id), readOpts)
+				: checkFile(guarded, batch.format, ctx, readOpts);
 			for await (const ev of events) {
 				if (ev.kind === 'source') tally.encoding = ev.encoding ?? null;
 				else if (ev.kind === 'file-finding') await addFinding(ev.finding);

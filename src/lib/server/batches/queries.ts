@@ -46,6 +46,8 @@ export interface BatchFilters {
 	district: string | null;
 	status: BatchStatus | null;
 	mode: BatchMode | null;
+	/** Records or events; absent: both. */
+	type?: 'records' | 'events' | null;
 }
 
 const BatchCursor = z.object({ id: z.string().regex(ID) });
@@ -58,6 +60,7 @@ export async function listBatches(principal: Principal, url: URL, filters: Batch
 	if (districtId !== null) q = q.where('b.district_id', '=', districtId);
 	if (filters.status) q = q.where('b.status', '=', filters.status);
 	if (filters.mode) q = q.where('b.mode', '=', filters.mode);
+	if (filters.type) q = q.where('b.record_type', '=', filters.type);
 	if (cursor) q = q.where('b.id', '<', cursor.id);
 	const rows = (await q
 		.orderBy('b.id', 'desc')

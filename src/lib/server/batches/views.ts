@@ -16,6 +16,7 @@ export function toBatchView(b: BatchWithDistrict): Batch {
 		id: String(b.id),
 		district: { code: b.district_code, name: b.district_name },
 		mode: b.mode,
+		type: b.record_type,
 		status: b.status,
 		valid: done ? b.errors === 0 : null,
 		committed: b.committed_at !== null,

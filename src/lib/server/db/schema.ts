@@ -124,6 +124,7 @@ export interface RecordVersionsTable {
 export type BatchMode = 'check' | 'all' | 'valid';
 export type BatchStatus = 'received' | 'checking' | 'done' | 'failed';
 export type UploadFormat = 'csv' | 'xlsx' | 'ndjson' | 'json';
+export type BatchRecordType = 'records' | 'events';
 
 export interface BatchesTable {
 	id: Generated<string>;
@@ -161,6 +162,8 @@ export interface BatchesTable {
 	started_at: Timestamp | null;
 	finished_at: Timestamp | null;
 	committed_at: Timestamp | null;
+	/** What the batch carries: practice records or upkeep events (migration 2026-12-03T0300_events). */
+	record_type: Generated<BatchRecordType>;
 }
 
 export interface BatchFindingsTable {
@@ -458,6 +461,33 @@ export interface DatasetReleasesTable {
 	withdrawn_at: Timestamp | null;
 }
 
+// --- upkeep records: practice events and their versions ------------------------------------------
+export interface PracticeEventsTable {
+	id: Generated<string>;
+	district_id: number;
+	record_id: string;
+	local_id: string;
+	event_on: DateOnly;
+	kind: 'media_top_up' | 'structure_setting' | 'mowing' | 'repair' | 'inspection';
+	version: number;
+	stop_board_height_in: Numeric | null;
+	media_added_cu_yd: Numeric | null;
+	data: ColumnType<Record<string, unknown>, string, string>;
+	content_hash: string;
+	created_at: Generated<Date>;
+	updated_at: Generated<Date>;
+}
+
+export interface PracticeEventVersionsTable {
+	event_id: string;
+	version: number;
+	data: ColumnType<Record<string, unknown>, string, string>;
+	changed_fields: string[];
+	batch_id: string | null;
+	actor: string;
+	created_at: Generated<Date>;
+}
+
 export interface Database {
 	settings: SettingsTable;
 	counties: CountiesTable;
@@ -489,6 +519,8 @@ export interface Database {
 	verification_draws: VerificationDrawsTable;
 	verification_visits: VerificationVisitsTable;
 	dataset_releases: DatasetReleasesTable;
+	practice_events: PracticeEventsTable;
+	practice_event_versions: PracticeEventVersionsTable;
 }
 
 export type District = Selectable<DistrictsTable>;

@@ -6,6 +6,8 @@ import type { Finding } from '../../schema/findings';
 import { createFindingTally, createRecordChecker, type CheckContext, type FindingSummary } from '../../schema/check-records';
 import type { PracticeRecordV1 } from '../../schema/practice-record';
 import { SCHEMA_VERSION } from '../../schema/practice-record';
+import { createEventChecker, type EventCheckContext } from '../../schema/check-events';
+import { EVENT_SCHEMA_VERSION, type PracticeEventV1 } from '../../schema/practice-event';
 import type { TextEncodingName } from './decode';
 import { readRows, type ReadOptions, type RowFormat } from './read-rows';
 
@@ -45,6 +47,34 @@ export async function* checkFile(
 	ctx: CheckContext,
 	opts: ReadOptions = {}
 ): AsyncGenerator<CheckEvent> {
+	yield* checkRowsWith(input, format, createRecordChecker(ctx), SCHEMA_VERSION, opts);
+}
+
+/** The same check of an upkeep-events file (schema practice-event), with the event checker. */
+export function checkEventFile(
+	input: NodeJS.ReadableStream | AsyncIterable<Uint8Array>,
+	format: RowFormat,
+	ctx: EventCheckContext,
+	opts: ReadOptions = {}
+): AsyncGenerator<CheckEventOf<PracticeEventV1>> {
+	return checkRowsWith(input, format, createEventChecker(ctx), EVENT_SCHEMA_VERSION, opts);
+}
+
+/** Any row checker: a header check and a row check giving the normalised row (or null) and findings. */
+interface RowChecker<R> {
+	header(columns: string[], headerRow?: number): Finding[];
+	row(values: Record<string, unknown>, row: number): { record: R | null; findings: Finding[] };
+}
+
+export type CheckEventOf<R> = Exclude<CheckEvent, { kind: 'row' }> | { kind: 'row'; row: number; record: R | null; findings: Finding[] };
+
+async function* checkRowsWith<R>(
+	input: NodeJS.ReadableStream | AsyncIterable<Uint8Array>,
+	format: RowFormat,
+	checker: RowChecker<R>,
+	schemaVersion: string,
+	opts: ReadOptions
+): AsyncGenerator<CheckEventOf<R>> {
 	const hash = createHash('sha256');
 	let bytes = 0;
 	async function* counted() {
@@ -55,10 +85,9 @@ export async function* checkFile(
 			yield b;
 		}
 	}
-	const checker = createRecordChecker(ctx);
 	const tally = createFindingTally();
 	const stats: Omit<CheckStats, 'sha256' | 'bytes' | 'valid' | 'findings'> = {
-		schema_version: SCHEMA_VERSION,
+		schema_version: schemaVersion,
 		format,
 		encoding: null,
 		sheet: null,
@@ -69,7 +98,7 @@ export async function* checkFile(
 		accepted_with_warnings: 0,
 		file_errors: 0
 	};
-	const fileFinding = (f: Finding): CheckEvent => {
+	const fileFinding = (f: Finding): CheckEventOf<R> => {
 		tally.add(f);
 		if (f.severity === 'error') stats.file_errors++;
 		return { kind: 'file-finding', finding: f };

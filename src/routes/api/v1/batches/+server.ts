@@ -1,6 +1,6 @@
 // POST: create a batch from a raw body (CSV, XLSX, NDJSON or a JSON array); 202 + Location.
 // GET: the batches the caller may see, newest first, with filters and cursor pages.
-import { BATCH_MODES, BATCH_STATUSES, BatchMode } from '$lib/schema/batch';
+import { BATCH_MODES, BATCH_STATUSES, BATCH_TYPES, BatchMode } from '$lib/schema/batch';
 import { createBatch } from '$lib/server/batches/create';
 import { uploadFormatOf } from '$lib/server/batches/intake-schema';
 import { listBatches } from '$lib/server/batches/queries';
@@ -34,6 +34,7 @@ function fileNameFrom(header: string | null): string | null {
 export const POST: RequestHandler = async ({ request, url, locals }) => {
 	const mode = enumParam(url, 'mode', BATCH_MODES) ?? 'check';
 	BatchMode.parse(mode);
+	const recordType = enumParam(url, 'type', BATCH_TYPES) ?? 'records';
 	const sheet = url.searchParams.get('sheet') || null;
 	if (sheet !== null && sheet.length > 100)
 		throw new ApiError({ status: 400, type: 'invalid-parameter', detail: 'sheet names are at most 100 characters.' });
@@ -43,6 +44,7 @@ export const POST: RequestHandler = async ({ request, url, locals }) => {
 	const lengthHeader = request.headers.get('content-length');
 	const answer = await createBatch(locals.principal!, {
 		mode,
+		recordType,
 		format,
 		contentType: (contentType ?? '').trim().slice(0, 200),
 		districtCode: patternParam(url, 'district', /^[A-Za-z0-9_-]{1,32}$/, 'a district code'),
@@ -64,7 +66,8 @@ export const GET: RequestHandler = async ({ url, locals }) => {
 		{
 			district: patternParam(url, 'district', /^[A-Za-z0-9_-]{1,32}$/, 'a district code'),
 			status: enumParam(url, 'status', BATCH_STATUSES),
-			mode: enumParam(url, 'mode', BATCH_MODES)
+			mode: enumParam(url, 'mode', BATCH_MODES),
+			type: enumParam(url, 'type', BATCH_TYPES)
 		},
 		pageLimit(url, 50, 200)
 	);
