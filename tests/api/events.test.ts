@@ -221,3 +221,88 @@ describe('the event schema documents', () => {
 		expect(params).toContain('type');
 	});
 });
+
+describe('GET /api/v1/records/{id} with its upkeep events', () => {
+	interface ApiEvent {
+		id: string;
+		event_on: string;
+		kind: string;
+		version: number;
+		stop_board_height_in: number | null;
+		media_added_cu_yd: number | null;
+		structure_id: string | null;
+		notes: string | null;
+		batch_id: string | null;
+	}
+	const plusYears = (d: string, n: number) => `${Number(d.slice(0, 4)) + n}${d.slice(4)}`;
+
+	it('lists a bioreactor’s events oldest first with their fields and version, and its upkeep status', async () => {
+		const bio = await blhPractice('605');
+		const wcs = await blhPractice('554');
+		const b = await runBatch(
+			T.district,
+			csv(HEADER, [
+				[bio.local_id, '2026-11-20', 'media_top_up', null, null, 12.5, 'api detail test'],
+				[wcs.local_id, '2026-11-21', 'structure_setting', 27.5, 'CS-API', null, null]
+			]),
+			{ mode: 'all', type: 'events' }
+		);
+		expect(b.committed).toBe(true);
+		const app = await appHandler();
+		const res = await request(app).get(`/api/v1/records/${bio.id}`).set('authorization', `Bearer ${T.district}`).expect(200);
+		const events = res.body.events as ApiEvent[];
+		expect(events.length).toBe(await count('select count(*) as n from practice_events where record_id = $1', [bio.id]));
+		expect(events.map((e) => e.event_on)).toEqual(events.map((e) => e.event_on).sort());
+		const topUp = events.find((e) => e.event_on === '2026-11-20' && e.kind === 'media_top_up');
+		expect(topUp).toMatchObject({ media_added_cu_yd: 12.5, stop_board_height_in: null, notes: 'api detail test', version: 1 });
+		expect(topUp!.batch_id).toBe(b.id);
+		// Upkeep: the last top-up or inspection up to today, due the hub's interval (default 2 years) later.
+		const upkeepDays = events.filter((e) => ['media_top_up', 'inspection'].includes(e.kind)).map((e) => e.event_on);
+		const last = upkeepDays.at(-1)!;
+		expect(last >= '2026-11-20').toBe(true);
+		expect(res.body.upkeep).toEqual({ years: 2, last_upkeep_on: last, due_by: plusYears(last, 2), overdue: false });
+
+		// Another practice: its events, no upkeep status.
+		const other = await request(app).get(`/api/v1/records/${wcs.id}`).set('authorization', `Bearer ${T.district}`).expect(200);
+		expect(other.body.upkeep).toBeNull();
+		expect((other.body.events as ApiEvent[]).find((e) => e.event_on === '2026-11-21')).toMatchObject({
+			kind: 'structure_setting',
+			stop_board_height_in: 27.5,
+			structure_id: 'CS-API',
+			media_added_cu_yd: null
+		});
+	});
+
+	it('says when a bioreactor’s upkeep is overdue', async () => {
+		const c = await (await import('../helpers/batches')).db();
+		// An installed bioreactor, in service (10-year lifespan), with no top-up or inspection for over 3 years.
+		const r = await c.query<{ id: string; installed_on: string; last: string | null }>(
+			`select r.id::text as id, r.installed_on::text as installed_on,
+			   (select max(e.event_on)::text from practice_events e where e.record_id = r.id and e.kind in ('media_top_up', 'inspection')) as last
+			 from records r join districts d on d.id = r.district_id
+			 where d.code = 'BLH' and r.practice_code = '605' and r.status = 'installed'
+			   and r.installed_on between current_date - interval '9 years' and current_date - interval '3 years'
+			   and not exists (select 1 from practice_events e where e.record_id = r.id and e.kind in ('media_top_up', 'inspection')
+			                   and e.event_on > current_date - interval '3 years')
+			 order by r.id limit 1`
+		);
+		expect(r.rows, 'the demo has an overdue BLH bioreactor').toHaveLength(1);
+		const { id, installed_on, last } = r.rows[0];
+		const res = await request(await appHandler())
+			.get(`/api/v1/records/${id}`)
+			.set('authorization', `Bearer ${T.district}`)
+			.expect(200);
+		expect(res.body.upkeep).toEqual({ years: 2, last_upkeep_on: last, due_by: plusYears(last ?? installed_on, 2), overdue: true });
+	});
+
+	it('is described in the OpenAPI document', async () => {
+		const doc = (await request(await appHandler()).get('/api/v1/openapi.json')).body;
+		const detail = doc.components.schemas.RecordDetail;
+		expect(detail.properties.events.items.$ref).toBe('#/components/schemas/RecordEvent');
+		expect(detail.required).toEqual(expect.arrayContaining(['events', 'upkeep']));
+		expect(Object.keys(doc.components.schemas.RecordEvent.properties)).toEqual(
+			expect.arrayContaining(['kind', 'event_on', 'version', 'stop_board_height_in', 'media_added_cu_yd', 'structure_id', 'notes'])
+		);
+		expect(doc.components.schemas.UpkeepStatus.required).toEqual(['years', 'last_upkeep_on', 'due_by', 'overdue']);
+	});
+});

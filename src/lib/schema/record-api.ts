@@ -4,6 +4,7 @@ import { z } from 'zod';
 import type { BioreactorScreening as ScreeningDomain } from '../domain/bioreactor-screening';
 import type { RecordEstimate } from '../domain/estimate';
 import { Finding } from './findings';
+import { EVENT_KIND_VALUES } from './practice-event';
 
 export const RecordSummary = z.object({
 	id: z.string(),
@@ -175,6 +176,29 @@ const sameEstimate: Same<Omit<EstimateBreakdown, 'stacking_share'>, RecordEstima
 void sameScreening;
 void sameEstimate;
 
+// --- upkeep events --------------------------------------------------------------------------------------
+
+export const RecordEvent = z.object({
+	id: z.string(),
+	event_on: z.string().describe('The day the work was done (YYYY-MM-DD).'),
+	kind: z.enum(EVENT_KIND_VALUES),
+	version: z.number().int().describe('The event’s current version (a re-sent event with changed fields gets a new one).'),
+	stop_board_height_in: z.number().nullable().describe('structure_setting: the stop-board height set, inches.'),
+	media_added_cu_yd: z.number().nullable().describe('media_top_up: the media added, cubic yards.'),
+	structure_id: z.string().nullable().describe('structure_setting (or any kind): which control structure.'),
+	notes: z.string().nullable(),
+	batch_id: z.string().nullable().describe('The batch the current version came from.')
+});
+export type RecordEvent = z.infer<typeof RecordEvent>;
+
+export const UpkeepStatus = z.object({
+	years: z.number().int().describe('The hub’s upkeep interval in years (setting `upkeep_overdue_years`).'),
+	last_upkeep_on: z.string().nullable().describe('The last media top-up or inspection on or before today; null when none.'),
+	due_by: z.string().describe('The last day upkeep is on time: `years` after the later of the install date and the last upkeep.'),
+	overdue: z.boolean().describe('Whether the bioreactor is in service today and past `due_by`.')
+});
+export type UpkeepStatus = z.infer<typeof UpkeepStatus>;
+
 export const RecordDetail = RecordSummary.extend({
 	data: z.record(z.string(), z.unknown()).describe('Every field of the current version, as sent.'),
 	current_findings: z.array(Finding.pick({ code: true, severity: true, column: true, value: true, rule: true, message: true })),
@@ -185,6 +209,10 @@ export const RecordDetail = RecordSummary.extend({
 	),
 	screening: BioreactorScreening.nullable().describe(
 		'Bioreactor (605) design screening under the active method, for records that carry design fields; null otherwise.'
+	),
+	events: z.array(RecordEvent).describe('The practice’s upkeep events, oldest first (by event_on, then kind).'),
+	upkeep: UpkeepStatus.nullable().describe(
+		'Bioreactors (605): when upkeep (a media top-up or an inspection) is due and whether it is overdue; null for other practices.'
 	)
 });
 export type RecordDetail = z.infer<typeof RecordDetail>;

@@ -5,10 +5,12 @@ import {
 	BioreactorScreening,
 	EstimateBreakdown,
 	RecordDetail,
+	RecordEvent,
 	RecordPage,
 	RecordSummary,
 	RecordWriteResult,
-	StoredEstimate
+	StoredEstimate,
+	UpkeepStatus
 } from '../record-api';
 import { problems } from './common';
 import { needsToken, registry } from './registry';
@@ -45,6 +47,20 @@ const BioreactorScreeningSchema = registry.register(
 			'Bioreactor (605) design screening, every number with its unit. Screening estimates, not a design: design and installation follow the practice standard, local codes and a licensed engineer or approved designer.'
 	})
 );
+const RecordEventSchema = registry.register(
+	'RecordEvent',
+	RecordEvent.meta({
+		description:
+			'One upkeep event of a practice (schema `/api/v1/schema/practice-event.json`), with its kind-specific fields and current version.'
+	})
+);
+const UpkeepStatusSchema = registry.register(
+	'UpkeepStatus',
+	UpkeepStatus.meta({
+		description:
+			'A bioreactor’s upkeep: the last media top-up or inspection, the day the next one is due (the hub’s interval after the later of that and the install date), and whether it is overdue today.'
+	})
+);
 const RecordDetailSchema = registry.register(
 	'RecordDetail',
 	RecordDetail.extend({
@@ -56,8 +72,14 @@ const RecordDetailSchema = registry.register(
 		}),
 		screening: BioreactorScreeningSchema.nullable().meta({
 			description: 'Bioreactor design screening under the active method, for 605 records with design fields; null otherwise.'
+		}),
+		events: z.array(RecordEventSchema).meta({ description: 'The practice’s upkeep events, oldest first (by event_on, then kind).' }),
+		upkeep: UpkeepStatusSchema.nullable().meta({
+			description: 'Bioreactors (605): when upkeep is due and whether it is overdue; null for other practices.'
 		})
-	}).meta({ description: 'One practice record with its versions, estimates and (bioreactors) design screening.' })
+	}).meta({
+		description: 'One practice record with its versions, estimates, upkeep events and (bioreactors) design screening and upkeep status.'
+	})
 );
 const RecordWriteResultSchema = registry.register(
 	'RecordWriteResult',
@@ -225,13 +247,15 @@ registry.registerPath({
 	method: 'get',
 	path: '/api/v1/records/{id}',
 	tags: ['Records'],
-	summary: 'One record with all its versions, its estimates and design screening',
+	summary: 'One record with all its versions, its estimates, design screening and upkeep events',
 	description: [
 		'The current fields, the warnings the current version carries, and every version with what changed and the batch it came from.',
 		'',
 		'`estimates`: the stored estimate (N and P lb/yr mean, low, high; credited acres) under each reduction method version computed so far, the active one first. `estimate`: how the active one is made (baseline, own and credited efficiency, the practices stacked on the same field and this record’s share of their combined reduction).',
 		'',
-		'`screening`: for bioreactors (605) with design fields, the design screening under the active method (peak flow, treated share, retention, main capacity, warnings), every number with its unit. These are screening estimates, not a design.'
+		'`screening`: for bioreactors (605) with design fields, the design screening under the active method (peak flow, treated share, retention, main capacity, warnings), every number with its unit. These are screening estimates, not a design.',
+		'',
+		'`events`: the practice’s upkeep events (media top-ups, structure settings, mowing, repairs, inspections), oldest first, each with its kind-specific fields and current version. `upkeep`: for bioreactors, the last media top-up or inspection, the day the next is due (the hub setting `upkeep_overdue_years` after the later of that and the install date) and whether it is overdue today; null for other practices.'
 	].join('\n'),
 	security: needsToken('records:read'),
 	request: { params: z.object({ id: z.string() }) },

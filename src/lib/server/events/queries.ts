@@ -5,24 +5,15 @@ import { sql } from 'kysely';
 import { practiceByCode } from '$lib/domain/practice-catalog';
 import { isUpkeepOverdue, UPKEEP_OVERDUE_SETTING, upkeepDueBy, upkeepYearsOf } from '$lib/domain/upkeep';
 import { BIOREACTOR_CODE } from '$lib/schema/practice-record';
-import { BIOREACTOR_UPKEEP_KINDS, type EventKind } from '$lib/schema/practice-event';
+import { BIOREACTOR_UPKEEP_KINDS } from '$lib/schema/practice-event';
+import type { RecordEvent } from '$lib/schema/record-api';
 import { readSetting } from '../db/settings';
 import type { Database } from '../db/schema';
 
 type Db = Kysely<Database> | Transaction<Database>;
 
-export interface TimelineEvent {
-	id: string;
-	event_on: string;
-	kind: EventKind;
-	version: number;
-	stop_board_height_in: number | null;
-	media_added_cu_yd: number | null;
-	structure_id: string | null;
-	notes: string | null;
-	/** The batch the current version came from. */
-	batch_id: string | null;
-}
+/** One event on a record's timeline (the API shape: src/lib/schema/record-api.ts). */
+export type TimelineEvent = RecordEvent;
 
 /** A record's events, oldest first (the page's timeline). The caller has checked access to the record. */
 export async function eventsOfRecord(db: Db, recordId: string): Promise<TimelineEvent[]> {

@@ -10,6 +10,8 @@ import type { Database } from '../db/schema';
 import { stateFyStartMonth } from '../db/settings';
 import { decodeCursor, toPage, type Page } from '../http/cursor';
 import { ApiError } from '../http/problem';
+import { eventsOfRecord } from '../events/queries';
+import { upkeepStatusOf } from '../events/upkeep';
 import { canReadDistrict, readableDistrictId } from './access';
 import { recordEstimates } from './estimates';
 
@@ -120,7 +122,8 @@ function notFound(): ApiError {
 
 /**
  * One record with its current warnings, every version (newest first), its stored estimates with the active
- * method's breakdown and, for bioreactors, the design screening — for a principal that may see it.
+ * method's breakdown, its upkeep events and, for bioreactors, the design screening and the upkeep status — for a
+ * principal that may see it.
  */
 export async function recordDetail(db: Db, principal: Principal, id: string): Promise<RecordDetail> {
 	if (!/^[1-9][0-9]{0,17}$/.test(id)) throw notFound();
@@ -149,12 +152,15 @@ export async function recordDetail(db: Db, principal: Principal, id: string): Pr
 		changes: diffVersions(i > 0 ? (versions[i - 1].data as RecordData) : null, v.data as RecordData),
 		data: v.data as Record<string, unknown>
 	}));
+	const events = await eventsOfRecord(db, String(row.id));
 	return {
 		...summary(row, fyStart),
 		data: row.data as Record<string, unknown>,
 		current_findings: findings.map((f) => ({ ...f, rule: f.rule ?? null })),
 		versions: views.reverse(),
-		...(await recordEstimates(db, String(row.id), row.practice_code, row.data as Record<string, unknown>))
+		...(await recordEstimates(db, String(row.id), row.practice_code, row.data as Record<string, unknown>)),
+		events,
+		upkeep: await upkeepStatusOf(db, row, events)
 	};
 }
 
