@@ -1,7 +1,8 @@
 // The home page: a short introduction for visitors, and each role's own home once signed in.
 import { adminHome, districtsOverview, liveTokenCount } from '$lib/server/accounts/home';
 import { getDb } from '$lib/server/db';
-import { pendingReturns } from '$lib/server/reviews/queue';
+import { openReviewCount, pendingReturns } from '$lib/server/reviews/queue';
+import { overdueVisitCounts } from '$lib/server/verification/visits';
 import type { PageServerLoad } from './$types';
 
 export const load = (async ({ locals }) => {
@@ -13,7 +14,16 @@ export const load = (async ({ locals }) => {
 		case 'admin':
 			return { home: { role: 'admin' as const, tokens, admin: await adminHome(db) } };
 		case 'manager':
-			return { home: { role: 'manager' as const, tokens, districts: await districtsOverview(db, p) } };
+			return {
+				home: {
+					role: 'manager' as const,
+					tokens,
+					districts: await districtsOverview(db, p),
+					// Work waiting: records flagged for review, and field visits past their due date (per draw).
+					reviewsOpen: await openReviewCount(db, null),
+					visitsOverdue: await overdueVisitCounts(db, null)
+				}
+			};
 		case 'district':
 			return {
 				home: {

@@ -6,7 +6,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { navFor } from '$lib/nav';
 import { closeDb, getDb } from '$lib/server/db';
 import type { Role } from '$lib/domain/scopes';
-import { startApp } from '../helpers/app';
+import { sql } from 'kysely';
+import { DEMO_TOKENS, startApp } from '../helpers/app';
 import { clearThrottle, createUser, userIdOf } from '../helpers/accounts';
 import { foreignRequests, launch, screenshot, seriousA11yViolations, signIn, type Browser } from '../helpers/browser';
 
@@ -90,6 +91,73 @@ describe('signing in as each demo user', () => {
 		await page.getByRole('button', { name: /sign in/i }).click();
 		await page.waitForURL((u) => u.pathname === '/admin/audit');
 		expect(new URL(page.url()).search).toBe('?action=sign-in');
+		await signOut(page);
+		await page.close();
+	});
+});
+
+describe("the manager's home", () => {
+	/** Counted here straight from the tables: records open for review, and visits with no outcome past their due day. */
+	async function waiting() {
+		const today = new Date().toISOString().slice(0, 10);
+		const reviews = await sql<{ n: number }>`select count(*)::int as n from review_queue where status = 'open'`.execute(getDb());
+		const visits = await sql<{ draw_id: string; fiscal_year: number; n: number }>`
+			select v.draw_id::text as draw_id, w.fiscal_year, count(*)::int as n from verification_visits v
+			join verification_draws w on w.id = v.draw_id
+			where v.outcome is null and v.due_on < ${today}::date group by 1, 2 order by 2 desc`.execute(getDb());
+		return { reviews: reviews.rows[0].n, overdue: visits.rows.reduce((s, r) => s + r.n, 0), draws: visits.rows };
+	}
+
+	it('counts the records waiting for review and the overdue field visits, each a link to its page', async () => {
+		// A sample of FY 2023 is due on that year's last day, long past: its visits are overdue.
+		const drawn = await fetch(`${app.origin}/api/v1/verification/draws`, {
+			method: 'POST',
+			headers: { authorization: `Bearer ${DEMO_TOKENS.manager}`, 'content-type': 'application/json' },
+			body: JSON.stringify({ fiscal_year: 2023, seed: 'home-overdue-2023', percent: 1, min_per_district: 1 })
+		});
+		expect([201, 409]).toContain(drawn.status);
+
+		const page = await browser.newPage();
+		await signIn(page, app.origin, 'manager@runnel.test');
+		const reviewsLink = page.getByTestId('reviews-open');
+		const visitsLink = page.getByTestId('visits-overdue');
+		// Other test files may change the counts meanwhile: compare against counts that held still across the page load.
+		let shown: { reviews: string; visits: string; visitsHref: string | null } | null = null;
+		let expected: Awaited<ReturnType<typeof waiting>> | null = null;
+		for (let attempt = 0; attempt < 3 && shown === null; attempt++) {
+			const before = await waiting();
+			await page.goto(`${app.origin}/`);
+			const now = {
+				reviews: (await reviewsLink.innerText()).trim(),
+				visits: (await visitsLink.innerText()).trim(),
+				visitsHref: await visitsLink.getAttribute('href')
+			};
+			const after = await waiting();
+			if (JSON.stringify(before) === JSON.stringify(after)) {
+				shown = now;
+				expected = after;
+			}
+		}
+		expect(shown, 'the counts held still across one page load').not.toBeNull();
+		expect(expected!.reviews).toBeGreaterThan(0);
+		expect(expected!.overdue).toBeGreaterThan(0);
+		const n = (x: number) => x.toLocaleString('en-US');
+		expect(shown!.reviews).toBe(`${n(expected!.reviews)} record${expected!.reviews === 1 ? '' : 's'} waiting for review`);
+		expect(shown!.visits).toBe(`${n(expected!.overdue)} field visit${expected!.overdue === 1 ? '' : 's'} overdue`);
+		// Links: the queue, and the newest draw with overdue visits at its Overdue list.
+		expect(await page.getByRole('link', { name: shown!.reviews }).getAttribute('href')).toBe('/reviews');
+		expect(shown!.visitsHref).toBe(`/verification?draw=${expected!.draws[0].draw_id}#overdue-title`);
+		await checkA11y(page, 'the manager home with counts');
+		await screenshot(page, 'home-manager-waiting');
+
+		await page.getByRole('link', { name: shown!.visits }).click();
+		await page.waitForURL((u) => u.pathname === '/verification');
+		await page.getByRole('heading', { name: `Fiscal year ${expected!.draws[0].fiscal_year} sample` }).waitFor();
+		await page.getByRole('heading', { name: `Overdue (${expected!.draws[0].n})`, exact: true }).waitFor();
+		await page.goBack();
+		await page.getByRole('link', { name: /waiting for review$/ }).click();
+		await page.waitForURL((u) => u.pathname === '/reviews');
+		await page.getByRole('heading', { level: 1 }).waitFor();
 		await signOut(page);
 		await page.close();
 	});

@@ -227,6 +227,16 @@ export async function listReviews(principal: Principal, url: URL, f: ReviewFilte
 	);
 }
 
+/** How many records wait for a decision (queue status `open`), in one district or (null) all of them. */
+export async function openReviewCount(db: Db, districtId: number | null): Promise<number> {
+	let q = db
+		.selectFrom('review_queue')
+		.select((eb) => eb.fn.countAll<string>().as('n'))
+		.where('status', '=', 'open');
+	if (districtId !== null) q = q.where('district_id', '=', districtId);
+	return Number((await q.executeTakeFirstOrThrow()).n);
+}
+
 /** Every decision on one record, newest first. */
 export async function reviewHistory(db: Db, recordId: string): Promise<ReviewDecisionView[]> {
 	const rows = await db

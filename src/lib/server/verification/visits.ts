@@ -88,6 +88,26 @@ function view(r: Row): VisitView {
 	};
 }
 
+/**
+ * Overdue visits (no outcome, due before today) per draw, newest fiscal year first; draws with none are left
+ * out. `districtId` null: every district.
+ */
+export async function overdueVisitCounts(
+	db: Db,
+	districtId: number | null,
+	on = today()
+): Promise<Array<{ draw_id: string; fiscal_year: number; count: number }>> {
+	let q = db
+		.selectFrom('verification_visits as v')
+		.innerJoin('verification_draws as w', 'w.id', 'v.draw_id')
+		.select(['v.draw_id', 'w.fiscal_year', (eb) => eb.fn.countAll<string>().as('n')])
+		.where('v.outcome', 'is', null)
+		.where('v.due_on', '<', on);
+	if (districtId !== null) q = q.where('v.district_id', '=', districtId);
+	const rows = await q.groupBy(['v.draw_id', 'w.fiscal_year']).orderBy('w.fiscal_year', 'desc').execute();
+	return rows.map((r) => ({ draw_id: String(r.draw_id), fiscal_year: r.fiscal_year, count: Number(r.n) }));
+}
+
 const VisitCursor = z.object({ id: z.string().regex(/^[0-9]{1,18}$/) });
 
 export async function listVisits(principal: Principal, url: URL, f: VisitFilters, limit: number): Promise<Page<VisitView>> {
