@@ -118,7 +118,8 @@ describe('review queue in the browser', () => {
 		await page.goto(`${app.origin}/verification`);
 		await page.getByRole('heading', { level: 1, name: 'Field verification' }).waitFor();
 		expect(await seriousA11yViolations(page)).toEqual([]);
-		await page.getByLabel('Fiscal year').fill('2024');
+		// By role: once any draw exists, its "Fiscal year … sample" region also carries the label text.
+		await page.getByRole('textbox', { name: 'Fiscal year', exact: true }).fill('2024');
 		await page.getByLabel('Seed (optional)').fill('browser-seed-2024');
 		await page.getByRole('button', { name: 'Draw' }).click();
 		await page.getByRole('heading', { name: 'Fiscal year 2024 sample' }).waitFor();
