@@ -3,16 +3,17 @@
 // then streams it row by row. Formulas are never evaluated: a formula cell is read as its formula
 // text (`=HYPERLINK(…)`) and the checker flags it (`formula-in-cell`).
 import { createReadStream, createWriteStream } from 'node:fs';
-import { mkdtemp, rm } from 'node:fs/promises';
+import { mkdtemp, open, rm } from 'node:fs/promises';
 import os from 'node:os';
 import path from 'node:path';
 import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
+import { inflateRawSync } from 'node:zlib';
 import type { Finding } from '../../schema/findings';
 import { cellRef } from '../../domain/cell-ref';
 import { byteChunks } from './decode';
 import { fileFinding, rowFinding, type ReadLimits, type ReadOptions, type RowEvent } from './row-events';
-import { inspectZip } from './zip-guard';
+import { inspectZip, type ZipEntryInfo } from './zip-guard';
 
 type Input = NodeJS.ReadableStream | AsyncIterable<Uint8Array>;
 
@@ -41,6 +42,24 @@ const headerText = (v: unknown): string => {
 
 interface StreamingWorkbookReader extends AsyncIterable<StreamingWorksheet> {
 	model?: { sheets?: Array<{ name: string; state?: string }> };
+	// exceljs's own parsers of the workbook part and its relationships (they read any byte stream).
+	_parseWorkbook(entry: Readable): Promise<void>;
+	_parseRels(entry: Readable): Promise<void>;
+}
+
+/** One (small) part of a checked archive, read through its central-directory entry. */
+async function readPart(file: string, e: ZipEntryInfo): Promise<Buffer> {
+	const fh = await open(file, 'r');
+	try {
+		const head = Buffer.alloc(30);
+		await fh.read(head, 0, 30, e.localHeaderOffset);
+		const start = e.localHeaderOffset + 30 + head.readUInt16LE(26) + head.readUInt16LE(28);
+		const data = Buffer.alloc(e.compressedSize);
+		await fh.read(data, 0, e.compressedSize, start);
+		return e.method === 8 ? inflateRawSync(data, { maxOutputLength: e.uncompressedSize + 1 }) : data;
+	} finally {
+		await fh.close();
+	}
 }
 interface StreamingWorksheet extends AsyncIterable<{ number: number; values: unknown[] }> {
 	name: string;
@@ -92,24 +111,19 @@ export async function* readXlsx(input: Input, opts: ReadOptions, limits: ReadLim
 			styles: 'cache', // needed to tell date cells from numbers
 			entries: 'ignore'
 		}) as unknown as StreamingWorkbookReader & { sharedStrings?: unknown[] };
-		// exceljs 4.4 sets sheets aside until xl/sharedStrings.xml has been read, and loses all but the first
-		// of them when the workbook has no shared strings at all (inline strings only). Such a workbook has
-		// nothing to wait for: when its workbook.xml and relationships come before the sheets (so sheet names
-		// are known), let exceljs read the sheets as they stream past.
-		const offsetOf = (name: string) => verdict.entries.find((e) => e.name === name)?.localHeaderOffset;
-		const firstSheet = Math.min(
-			...verdict.entries.filter((e) => /^xl\/worksheets\/sheet\d+\.xml$/.test(e.name)).map((e) => e.localHeaderOffset)
-		);
-		const book = offsetOf('xl/workbook.xml');
-		const rels = offsetOf('xl/_rels/workbook.xml.rels');
-		if (
-			offsetOf('xl/sharedStrings.xml') === undefined &&
-			book !== undefined &&
-			rels !== undefined &&
-			book < firstSheet &&
-			rels < firstSheet
-		)
-			reader.sharedStrings = [];
+		// exceljs's single streaming pass does not reliably deliver the archive's last entry before it parses
+		// the sheets (exceljs issue #3064: "Cannot read properties of undefined (reading 'sheets')", seen here
+		// under load), and spreadsheet writers often store xl/workbook.xml last. So the workbook part and its
+		// relationships (small; the archive has passed zip-guard) are read first through the central
+		// directory and handed to exceljs's own parsers: sheet names are known before any sheet streams.
+		const partOf = (name: string) => verdict.entries.find((e) => e.name === name);
+		const relsPart = partOf('xl/_rels/workbook.xml.rels');
+		if (relsPart) await reader._parseRels(Readable.from([await readPart(file, relsPart)]));
+		await reader._parseWorkbook(Readable.from([await readPart(file, partOf('xl/workbook.xml')!)]));
+		// exceljs 4.4 also sets sheets aside until xl/sharedStrings.xml has been read, and loses all but the
+		// first of them when the workbook has no shared strings at all (inline strings only). Such a workbook
+		// has nothing to wait for: let exceljs read its sheets as they stream past.
+		if (!partOf('xl/sharedStrings.xml')) reader.sharedStrings = [];
 		const seen: string[] = [];
 		let found = false;
 		try {
