@@ -3,11 +3,12 @@
 // values and messages). Files: tricky inputs made here (encodings, quoting, ragged rows, JSON shapes,
 // formulas, dates and numbers people really type), every case of the bad-input corpus
 // (tests/fixtures/bad/manifest.json) and the demo files.
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DEMO_TOKENS, startApp } from '../helpers/app';
+import { caseBytes, caseName, caseOption, corpus, CORPUS_DIR, type CorpusCase } from '../helpers/bad-corpus';
 import {
 	allFindings,
 	BASIC_HEADER,
@@ -21,7 +22,6 @@ import {
 	type FindingBody
 } from '../helpers/batches';
 import { runCli } from '../helpers/cli';
-import { makeZip, MINIMAL_PARTS } from '../unit/helpers/zip';
 
 let app: { origin: string; close: () => Promise<void> };
 beforeAll(async () => {
@@ -175,54 +175,8 @@ describe('runnel check = the hub with mode=check', () => {
 // ---------------------------------------------------------------------------------------------------
 // The bad-input corpus: every case, committed file or generated, through the hub and through the CLI.
 
-const CORPUS = path.resolve(import.meta.dirname, '..', 'fixtures', 'bad');
-interface CorpusCase {
-	file?: string;
-	generate?: string;
-	format: string;
-	content_type: string;
-	sheet?: string;
-}
-const corpus = JSON.parse(readFileSync(path.join(CORPUS, 'manifest.json'), 'utf8')) as { cases: CorpusCase[] };
-
-/**
- * The generated cases (too big or too dangerous to commit), made the way tests/unit/bad-corpus.test.ts
- * makes them. If the corpus gains a generator this test does not know, it fails rather than skip it.
- */
-function generateCase(name: string): Buffer {
-	const HEADER = 'local_id,practice_code,county_fips,installed_on,extent_acres,notes\n';
-	const OK = (id: string) => `${id},340,19109,2024-10-01,80,fine\n`;
-	const TEN_MB = 10 * 1024 * 1024;
-	const rec = (id: string, notes: string) => ({
-		local_id: id,
-		practice_code: '340',
-		county_fips: '19109',
-		installed_on: '2024-10-01',
-		extent_acres: 80,
-		notes
-	});
-	switch (name) {
-		case 'csv-10mb-cell':
-			return Buffer.from(`${HEADER}${OK('G-1')}G-2,340,19109,2024-10-01,80,"${'x'.repeat(TEN_MB)}"\n${OK('G-3')}`);
-		case 'csv-40kb-cell':
-			return Buffer.from(`${HEADER}${OK('G-1')}G-2,340,19109,2024-10-01,80,${'x'.repeat(40 * 1024)}\n`);
-		case 'ndjson-10mb-cell':
-			return Buffer.from(
-				[rec('G-1', 'fine'), rec('G-2', 'x'.repeat(TEN_MB)), rec('G-3', 'fine')].map((r) => JSON.stringify(r) + '\n').join('')
-			);
-		case 'json-10mb-cell':
-			return Buffer.from(JSON.stringify([rec('G-1', 'fine'), rec('G-2', 'x'.repeat(TEN_MB))]));
-		case 'xlsx-zip-bomb':
-			return makeZip([...MINIMAL_PARTS, { name: 'xl/sharedStrings.xml', data: Buffer.alloc(1024 * 1024), declaredSize: 0xf0000000 }]);
-		case 'xlsx-lying-sizes':
-			return makeZip([...MINIMAL_PARTS, { name: 'xl/sharedStrings.xml', data: Buffer.alloc(50 * 1024 * 1024), declaredSize: 1000 }]);
-		default:
-			throw new Error(`the corpus has a generated case this test does not know: ${name}`);
-	}
-}
-
 describe('runnel check = the hub, for every case of the bad-input corpus', () => {
-	const label = (c: CorpusCase) => `${c.file ?? `(generated) ${c.generate}`}${c.sheet ? ` sheet=${c.sheet}` : ''}`;
+	const label = (c: CorpusCase) => `${caseName(c)}${c.sheet ? ` ${caseOption(c)}` : ''}`;
 	const results = new Map<string, { server: Comparable[]; cli: Comparable[]; cliCode: number | null }>();
 
 	beforeAll(async () => {
@@ -231,8 +185,8 @@ describe('runnel check = the hub, for every case of the bad-input corpus', () =>
 		const sent: Array<{ c: CorpusCase; id: string }> = [];
 		const files: Array<{ c: CorpusCase; file: string }> = [];
 		for (const [i, c] of corpus.cases.entries()) {
-			const body = c.file ? readFileSync(path.join(CORPUS, c.file)) : generateCase(c.generate!);
-			const file = c.file ? path.join(CORPUS, c.file) : path.join(dir, `generated-${i}-${c.generate}.${c.format}`);
+			const body = caseBytes(c);
+			const file = c.file ? path.join(CORPUS_DIR, c.file) : path.join(dir, `generated-${i}-${c.generate}.${c.format}`);
 			if (!c.file) writeFileSync(file, body);
 			files.push({ c, file });
 			const q = new URLSearchParams({ mode: 'check' });

@@ -14,6 +14,7 @@ import { getActiveMethodVersion } from '$lib/server/methods';
 import { rebuildMethod } from '$lib/server/rollups/refresh';
 import { getObjectStore } from '$lib/server/storage/object-store';
 import { createDistrict, insertRecords } from '../helpers/rollup-fixtures';
+import { layOut, readSmallCellK, restoreSmallCellK, scenario, setSmallCellK } from '../helpers/small-cell-scenarios';
 
 process.env.ROLLUP_POLL_MS = '3600000';
 const db = getDb();
@@ -22,7 +23,7 @@ let savedK: unknown;
 
 beforeAll(async () => {
 	await rebuildMethod(db, await getActiveMethodVersion(db));
-	savedK = (await db.selectFrom('settings').select('value').where('key', '=', 'small_cell_k').executeTakeFirst())?.value;
+	savedK = await readSmallCellK(db);
 	const a = await createDistrict(db, 'DSCA', 'Small-cell release district A', 'SC East', ['19011', '19013']);
 	const b = await createDistrict(db, 'DSCB', 'Small-cell release district B', 'SC East', ['19017']);
 	const c = await createDistrict(db, 'DSCC', 'Small-cell release district C', 'SC West', ['19021', '19025']);
@@ -35,28 +36,8 @@ beforeAll(async () => {
 	);
 }, 120_000);
 afterAll(async () => {
-	if (savedK === undefined) await db.deleteFrom('settings').where('key', '=', 'small_cell_k').execute();
-	else
-		await db
-			.updateTable('settings')
-			.set({ value: JSON.stringify(savedK) })
-			.where('key', '=', 'small_cell_k')
-			.execute();
+	await restoreSmallCellK(db, savedK);
 	await closeDb();
-});
-
-const scenario = fc.record({
-	k: fc.integer({ min: 2, max: 5 }),
-	records: fc.array(
-		fc.record({
-			where: fc.nat({ max: 4 }),
-			practice_code: fc.constantFrom('605', '340'),
-			fyOffset: fc.integer({ min: 0, max: 1 }),
-			operation: fc.constantFrom('o1', 'o2', 'o3', 'o4', 'o5', 'o6', null),
-			acres: fc.integer({ min: 1, max: 200 })
-		}),
-		{ minLength: 1, maxLength: 40 }
-	)
 });
 
 let run = 0;
@@ -74,35 +55,10 @@ describe('every release keeps every published group at k distinct operations or 
 			fc.asyncProperty(scenario, async ({ k, records }) => {
 				run++;
 				const fy0 = 1700 + run * 3;
-				await db
-					.insertInto('settings')
-					.values({ key: 'small_cell_k', value: JSON.stringify(k) })
-					.onConflict((oc) => oc.column('key').doUpdateSet({ value: JSON.stringify(k) }))
-					.execute();
+				await setSmallCellK(db, k);
 				const opOfPid = new Map<string, string>();
-				const truth = new Map<string, Set<string>>();
 				const pseudonym = await pseudonymiser(db);
-				const byDistrict = new Map<number, { list: Parameters<typeof insertRecords>[2]; ops: string[] }>();
-				records.forEach((r, i) => {
-					const { id, county } = districts[r.where];
-					const fy = fy0 + r.fyOffset;
-					const op = `${id}:${r.operation ?? ''}`;
-					const key = `${county}|${fy}|${r.practice_code}`;
-					if (!truth.has(key)) truth.set(key, new Set());
-					truth.get(key)!.add(op);
-					const entry = byDistrict.get(id) ?? { list: [], ops: [] };
-					entry.list.push({
-						local_id: `SC${run}-${i}`,
-						practice_code: r.practice_code,
-						county_fips: county,
-						installed_on: `${fy - 1}-09-15`,
-						extent_acres: r.practice_code === '340' ? r.acres : null,
-						drainage_area_acres: r.practice_code === '605' ? r.acres : null,
-						operation_id: r.operation
-					});
-					entry.ops.push(op);
-					byDistrict.set(id, entry);
-				});
+				const { truth, byDistrict } = layOut(records, districts, fy0, `SC${run}`);
 				for (const [d, { list, ops }] of byDistrict) {
 					const ids = await insertRecords(db, d, list);
 					ids.forEach((id, i) => opOfPid.set(pseudonym(String(id)), ops[i]));

@@ -10,6 +10,7 @@ import { getActiveMethodVersion } from '$lib/server/methods';
 import { rebuildMethod } from '$lib/server/rollups/refresh';
 import { appHandler, bearer, DEMO_TOKENS } from '../helpers/app';
 import { createDistrict, insertRecords } from '../helpers/rollup-fixtures';
+import { layOut, readSmallCellK, restoreSmallCellK, scenario, setSmallCellK } from '../helpers/small-cell-scenarios';
 
 process.env.ROLLUP_POLL_MS = '3600000';
 const db = getDb();
@@ -20,44 +21,23 @@ let savedK: unknown;
 
 beforeAll(async () => {
 	await rebuildMethod(db, await getActiveMethodVersion(db));
-	savedK = (await db.selectFrom('settings').select('value').where('key', '=', 'small_cell_k').executeTakeFirst())?.value;
+	savedK = await readSmallCellK(db);
 	north = await createDistrict(db, 'RTN', 'Rollup researcher district North', 'RT North', ['19109', '19063']);
 	south = await createDistrict(db, 'RTS', 'Rollup researcher district South', 'RT South', ['19001', '19003']);
 	southB = await createDistrict(db, 'RTS2', 'Rollup researcher district South 2', 'RT South', ['19005']);
 });
 afterAll(async () => {
-	if (savedK === undefined) await db.deleteFrom('settings').where('key', '=', 'small_cell_k').execute();
-	else
-		await db
-			.updateTable('settings')
-			.set({ value: JSON.stringify(savedK) })
-			.where('key', '=', 'small_cell_k')
-			.execute();
+	await restoreSmallCellK(db, savedK);
 	await closeDb();
 });
 
-const DISTRICT_COUNTIES = () =>
-	[
-		[north, '19109'],
-		[north, '19063'],
-		[south, '19001'],
-		[south, '19003'],
-		[southB, '19005']
-	] as const;
-
-const scenario = fc.record({
-	k: fc.integer({ min: 2, max: 5 }),
-	records: fc.array(
-		fc.record({
-			where: fc.nat({ max: 4 }),
-			practice_code: fc.constantFrom('605', '340'),
-			fyOffset: fc.integer({ min: 0, max: 1 }),
-			operation: fc.constantFrom('o1', 'o2', 'o3', 'o4', 'o5', 'o6', null),
-			acres: fc.integer({ min: 1, max: 200 })
-		}),
-		{ minLength: 1, maxLength: 40 }
-	)
-});
+const DISTRICT_COUNTIES = () => [
+	{ id: north, county: '19109' },
+	{ id: north, county: '19063' },
+	{ id: south, county: '19001' },
+	{ id: south, county: '19003' },
+	{ id: southB, county: '19005' }
+];
 
 let run = 0;
 
@@ -68,32 +48,9 @@ describe('researcher rollups keep every published cell at k operations or more',
 			fc.asyncProperty(scenario, async ({ k, records }) => {
 				run++;
 				const fy0 = 1900 + run * 3; // a fresh pair of state FYs for each run
-				await db
-					.insertInto('settings')
-					.values({ key: 'small_cell_k', value: JSON.stringify(k) })
-					.onConflict((oc) => oc.column('key').doUpdateSet({ value: JSON.stringify(k) }))
-					.execute();
-				const truth = new Map<string, Set<string>>();
-				const byDistrict = new Map<number, Parameters<typeof insertRecords>[2]>();
-				records.forEach((r, i) => {
-					const [districtId, county] = DISTRICT_COUNTIES()[r.where];
-					const fy = fy0 + r.fyOffset;
-					const key = `${county}|${fy}|${r.practice_code}`;
-					if (!truth.has(key)) truth.set(key, new Set());
-					truth.get(key)!.add(`${districtId}:${r.operation ?? ''}`);
-					const list = byDistrict.get(districtId) ?? [];
-					list.push({
-						local_id: `R${run}-${i}`,
-						practice_code: r.practice_code,
-						county_fips: county,
-						installed_on: `${fy - 1}-09-15`, // state FY fy (July start)
-						extent_acres: r.practice_code === '340' ? r.acres : null,
-						drainage_area_acres: r.practice_code === '605' ? r.acres : null,
-						operation_id: r.operation
-					});
-					byDistrict.set(districtId, list);
-				});
-				for (const [d, list] of byDistrict) await insertRecords(db, d, list);
+				await setSmallCellK(db, k);
+				const { truth, byDistrict } = layOut(records, DISTRICT_COUNTIES(), fy0, `R${run}`);
+				for (const [d, { list }] of byDistrict) await insertRecords(db, d, list);
 
 				const res = await request(handler)
 					.get(`/api/v1/rollups?group=county,fy,practice&basis=installed&fy=${fy0}..${fy0 + 1}`)
