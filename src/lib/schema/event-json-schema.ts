@@ -1,7 +1,7 @@
 // The published JSON Schema (draft 2020-12) of a practice event as clients send it, generated from the
 // one zod source (practice-event.ts) with z.toJSONSchema, plus the kind-specific rules as if/then
 // clauses. Pure.
-import { z } from 'zod';
+import { columnJsonSchemaOf, publishedJsonSchema } from './column-schema';
 import {
 	EVENT_COLUMN_INFO,
 	EVENT_SCHEMA_VERSION,
@@ -33,21 +33,16 @@ function perKindRules(): JsonObject[] {
 
 /** The JSON Schema of one event as sent (optional columns may be omitted or null). */
 export function practiceEventJsonSchema(): JsonObject {
-	const generated = z.toJSONSchema(PracticeEventV1InputSchema, { target: 'draft-2020-12' }) as JsonObject;
-	const { $schema, ...rest } = generated;
-	return {
-		$schema,
-		$id: PRACTICE_EVENT_SCHEMA_ID,
-		version: EVENT_SCHEMA_VERSION,
-		...rest,
-		allOf: perKindRules(),
-		'x-further-checks': EVENT_FURTHER_CHECKS
-	};
+	return publishedJsonSchema(
+		PracticeEventV1InputSchema,
+		PRACTICE_EVENT_SCHEMA_ID,
+		EVENT_SCHEMA_VERSION,
+		perKindRules(),
+		EVENT_FURTHER_CHECKS
+	);
 }
 
 /** The JSON Schema of one column (its constraints, before null is allowed). */
 export function eventColumnJsonSchema(col: PracticeEventColumn): JsonObject {
-	const s = z.toJSONSchema(PracticeEventV1Schema.shape[col], { target: 'draft-2020-12' }) as JsonObject;
-	const anyOf = s.anyOf as JsonObject[] | undefined;
-	return { ...(anyOf ? (anyOf.find((x) => x.type !== 'null') ?? {}) : s) };
+	return columnJsonSchemaOf(PracticeEventV1Schema.shape[col]);
 }

@@ -1,8 +1,8 @@
 // The published JSON Schema (draft 2020-12) of a practice record as clients send it, generated from
 // the one zod source with z.toJSONSchema, plus the per-practice and withdrawal rules as if/then
 // clauses drawn from the practice catalog. Pure.
-import { z } from 'zod';
 import { PRACTICE_CATALOG } from '../domain/practice-catalog';
+import { columnJsonSchemaOf, publishedJsonSchema } from './column-schema';
 import { PracticeRecordV1InputSchema, PracticeRecordV1Schema, SCHEMA_VERSION, type PracticeRecordColumn } from './practice-record';
 
 export const PRACTICE_RECORD_SCHEMA_ID = `urn:runnel:schema:practice-record:v${SCHEMA_VERSION}`;
@@ -39,22 +39,10 @@ function perPracticeRules(): JsonObject[] {
 
 /** The JSON Schema of one record as sent (optional columns may be omitted or null). */
 export function practiceRecordJsonSchema(): JsonObject {
-	const generated = z.toJSONSchema(PracticeRecordV1InputSchema, { target: 'draft-2020-12' }) as JsonObject;
-	const { $schema, ...rest } = generated;
-	return {
-		$schema,
-		$id: PRACTICE_RECORD_SCHEMA_ID,
-		version: SCHEMA_VERSION,
-		...rest,
-		allOf: perPracticeRules(),
-		'x-further-checks': FURTHER_CHECKS
-	};
+	return publishedJsonSchema(PracticeRecordV1InputSchema, PRACTICE_RECORD_SCHEMA_ID, SCHEMA_VERSION, perPracticeRules(), FURTHER_CHECKS);
 }
 
 /** The JSON Schema of one column of the normalised record (its constraints, before null is allowed). */
 export function columnJsonSchema(col: PracticeRecordColumn): JsonObject {
-	const s = z.toJSONSchema(PracticeRecordV1Schema.shape[col], { target: 'draft-2020-12' }) as JsonObject;
-	const anyOf = s.anyOf as JsonObject[] | undefined;
-	const core = anyOf ? (anyOf.find((x) => x.type !== 'null') ?? {}) : s;
-	return { ...core };
+	return columnJsonSchemaOf(PracticeRecordV1Schema.shape[col]);
 }

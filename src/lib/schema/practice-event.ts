@@ -4,7 +4,8 @@
 // component, the CSV/XLSX templates, the data dictionary section and the event checker are generated
 // from or driven by this module. Pure: runs in the browser, on the server and in the CLI.
 import { z } from 'zod';
-import { BIOREACTOR_CODE, type ColumnKind } from './practice-record';
+import { optionalColumnsMask, readColumnMeta, withColumnMeta, type BaseColumnInfo, type BaseMeta } from './column-schema';
+import { BIOREACTOR_CODE } from './practice-record';
 
 export const EVENT_SCHEMA_VERSION = '1';
 
@@ -55,42 +56,23 @@ export type EventColumnGroup = keyof typeof EVENT_COLUMN_GROUPS;
 
 export type EventRequirement = 'always' | 'per-kind' | 'optional';
 
-export interface EventColumnInfo {
-	name: string;
-	title: string;
-	description: string;
-	group: EventColumnGroup;
-	kind: ColumnKind;
-	requirement: EventRequirement;
-	unit: string | null;
-	example: string | number;
-	hint: string | null;
+export interface EventColumnInfo extends BaseColumnInfo<EventColumnGroup, EventRequirement> {
 	/** Detail columns: the event kinds the column applies to (null: all). */
 	kinds: EventKind[] | null;
 	/** For per-kind columns: the kinds that require it. */
 	required_for: EventKind[] | null;
 }
 
-type Meta = Omit<EventColumnInfo, 'name' | 'unit' | 'hint' | 'kinds' | 'required_for'> & {
-	unit?: string;
-	hint?: string;
+type Meta = BaseMeta<EventColumnGroup, EventRequirement> & {
 	kinds?: EventKind[];
 	required_for?: EventKind[];
 };
 
 function column<T extends z.ZodType>(schema: T, m: Meta): T {
-	return schema.meta({
-		title: m.title,
-		description: m.description,
-		examples: [m.example],
-		'x-group': m.group,
-		'x-kind': m.kind,
-		'x-requirement': m.requirement,
-		...(m.unit ? { 'x-unit': m.unit } : {}),
-		...(m.hint ? { 'x-hint': m.hint } : {}),
+	return withColumnMeta(schema, m, {
 		...(m.kinds ? { 'x-event-kinds': m.kinds } : {}),
 		...(m.required_for ? { 'x-required-for': m.required_for } : {})
-	}) as T;
+	});
 }
 
 const ID_PATTERN = /^[A-Za-z0-9._-]{1,64}$/;
@@ -184,9 +166,7 @@ export const EVENT_REQUIRED_COLUMNS: readonly PracticeEventColumn[] = ['local_id
 
 /** What a client sends: the optional columns may be omitted. */
 export const PracticeEventV1InputSchema = PracticeEventV1Schema.partial(
-	Object.fromEntries(PRACTICE_EVENT_COLUMNS.filter((c) => !EVENT_REQUIRED_COLUMNS.includes(c)).map((c) => [c, true])) as {
-		[K in PracticeEventColumn]?: true;
-	}
+	optionalColumnsMask(PRACTICE_EVENT_COLUMNS, EVENT_REQUIRED_COLUMNS)
 );
 
 export function eventColumnSchema(name: PracticeEventColumn): z.ZodType {
@@ -194,17 +174,9 @@ export function eventColumnSchema(name: PracticeEventColumn): z.ZodType {
 }
 
 function readInfo(name: PracticeEventColumn): EventColumnInfo {
-	const m = (eventColumnSchema(name).meta() ?? {}) as Record<string, unknown>;
+	const { meta: m, ...base } = readColumnMeta<EventColumnGroup, EventRequirement>(name, eventColumnSchema(name));
 	return {
-		name,
-		title: String(m.title),
-		description: String(m.description),
-		group: m['x-group'] as EventColumnGroup,
-		kind: m['x-kind'] as ColumnKind,
-		requirement: m['x-requirement'] as EventRequirement,
-		unit: (m['x-unit'] as string | undefined) ?? null,
-		example: (m.examples as Array<string | number>)[0],
-		hint: (m['x-hint'] as string | undefined) ?? null,
+		...base,
 		kinds: (m['x-event-kinds'] as EventKind[] | undefined) ?? null,
 		required_for: (m['x-required-for'] as EventKind[] | undefined) ?? null
 	};

@@ -4,6 +4,7 @@
 // Pure: runs in the browser, on the server and in the CLI (relative imports only).
 import { z } from 'zod';
 import { PRACTICE_CATALOG, PRACTICE_CODES } from '../domain/practice-catalog';
+import { optionalColumnsMask, readColumnMeta, withColumnMeta, type BaseColumnInfo, type BaseMeta } from './column-schema';
 
 export const SCHEMA_VERSION = '1';
 
@@ -31,23 +32,12 @@ export const COLUMN_GROUPS = {
 } as const;
 export type ColumnGroup = keyof typeof COLUMN_GROUPS;
 
-/** How a cell is read: text as is, codes as text (numbers allowed), numbers, dates, list values. */
-export type ColumnKind = 'text' | 'code' | 'enum' | 'date' | 'number' | 'integer';
+export type { ColumnKind } from './column-schema';
 
 /** When a value must be present. `per-practice`: required by the practice's credited basis. */
 export type Requirement = 'always' | 'per-practice' | 'when-withdrawn' | 'optional';
 
-export interface ColumnInfo {
-	name: string;
-	title: string;
-	description: string;
-	group: ColumnGroup;
-	kind: ColumnKind;
-	requirement: Requirement;
-	unit: string | null;
-	example: string | number;
-	/** Plain-language format rule shown in the dictionary and template notes, e.g. "5 digits". */
-	hint: string | null;
+export interface ColumnInfo extends BaseColumnInfo<ColumnGroup, Requirement> {
 	/** Personal information (a person's name or exact location): redacted in findings, never published. */
 	personal: boolean;
 	/** False: never leaves the hub in the anonymised research dataset. */
@@ -58,30 +48,21 @@ export interface ColumnInfo {
 	practices: string[] | null;
 }
 
-type Meta = Omit<ColumnInfo, 'name' | 'personal' | 'published_as' | 'practices' | 'hint' | 'unit'> & {
-	unit?: string;
-	hint?: string;
+type Meta = BaseMeta<ColumnGroup, Requirement> & {
 	personal?: boolean;
+	published: boolean;
 	published_as?: string;
 	practices?: string[];
 };
 
 // Metadata goes into zod's registry with `.meta()`; `x-` keys survive into JSON Schema and OpenAPI.
 function column<T extends z.ZodType>(schema: T, m: Meta): T {
-	return schema.meta({
-		title: m.title,
-		description: m.description,
-		examples: [m.example],
-		'x-group': m.group,
-		'x-kind': m.kind,
-		'x-requirement': m.requirement,
-		...(m.unit ? { 'x-unit': m.unit } : {}),
-		...(m.hint ? { 'x-hint': m.hint } : {}),
+	return withColumnMeta(schema, m, {
 		'x-personal': m.personal ?? false,
 		'x-published': m.published,
 		...(m.published_as ? { 'x-published-as': m.published_as } : {}),
 		...(m.practices ? { 'x-practices': m.practices } : {})
-	}) as T;
+	});
 }
 
 const ID_PATTERN = /^[A-Za-z0-9._-]{1,64}$/;
@@ -426,11 +407,7 @@ export const REQUIRED_COLUMNS: readonly PracticeRecordColumn[] = ['local_id', 'p
  * What a client sends: the same columns, the optional ones may be omitted. This is the document the
  * published JSON Schema describes.
  */
-export const PracticeRecordV1InputSchema = PracticeRecordV1Schema.partial(
-	Object.fromEntries(PRACTICE_RECORD_COLUMNS.filter((c) => !REQUIRED_COLUMNS.includes(c)).map((c) => [c, true])) as {
-		[K in PracticeRecordColumn]?: true;
-	}
-);
+export const PracticeRecordV1InputSchema = PracticeRecordV1Schema.partial(optionalColumnsMask(PRACTICE_RECORD_COLUMNS, REQUIRED_COLUMNS));
 
 /** The schema of one column (nullable for optional columns). */
 export function columnSchema(name: PracticeRecordColumn): z.ZodType {
@@ -438,17 +415,9 @@ export function columnSchema(name: PracticeRecordColumn): z.ZodType {
 }
 
 function readInfo(name: PracticeRecordColumn): ColumnInfo {
-	const m = (columnSchema(name).meta() ?? {}) as Record<string, unknown>;
+	const { meta: m, ...base } = readColumnMeta<ColumnGroup, Requirement>(name, columnSchema(name));
 	return {
-		name,
-		title: String(m.title),
-		description: String(m.description),
-		group: m['x-group'] as ColumnGroup,
-		kind: m['x-kind'] as ColumnKind,
-		requirement: m['x-requirement'] as Requirement,
-		unit: (m['x-unit'] as string | undefined) ?? null,
-		example: (m.examples as Array<string | number>)[0],
-		hint: (m['x-hint'] as string | undefined) ?? null,
+		...base,
 		personal: m['x-personal'] === true,
 		published: m['x-published'] === true,
 		published_as: (m['x-published-as'] as string | undefined) ?? null,
