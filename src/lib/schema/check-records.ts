@@ -10,6 +10,7 @@ import { countyCodes, type CountyShapes } from '../domain/county-shapes';
 import { parseNumberText } from '../domain/number-text';
 import { practiceByCode, PRACTICE_CODES } from '../domain/practice-catalog';
 import { geoContains } from 'd3-geo';
+import type { BaseColumnInfo } from './column-schema';
 import type { Finding, FindingSeverity } from './findings';
 import {
 	COLUMN_INFO,
@@ -496,54 +497,86 @@ function editDistance(a: string, b: string, cap: number): number {
 
 const EARLIEST_PLAUSIBLE_INSTALL = '1970-01-01';
 
-const COLUMN_INDEX: Readonly<Record<PracticeRecordColumn, number>> = Object.fromEntries(
-	PRACTICE_RECORD_COLUMNS.map((c, i) => [c, i])
-) as Record<PracticeRecordColumn, number>;
-const COLUMN_SCHEMAS = PRACTICE_RECORD_COLUMNS.map((c) => columnSchema(c));
-const DETAIL_COLUMNS = PRACTICE_RECORD_COLUMNS.filter((c) => COLUMN_INFO[c].practices !== null);
-/** Every column null, in order: copied per row so all records share one object shape. */
-const EMPTY_RECORD: Readonly<Record<string, unknown>> = Object.fromEntries(PRACTICE_RECORD_COLUMNS.map((c) => [c, null]));
+/** What a row checker takes from its schema (the practice record, the practice event). */
+export interface RowSchema<C extends string> {
+	columns: readonly C[];
+	info: Readonly<Record<C, BaseColumnInfo>>;
+	/** Columns every file must have (as headers) and every row must fill. */
+	required: readonly C[];
+	isColumn: (name: string) => name is C;
+	schemaOf: (col: C) => z.ZodType;
+	/** The schema in messages: "not part of the {noun} schema". */
+	noun: string;
+	/** What a row is in messages: "Every {rowNoun} needs …". */
+	rowNoun: string;
+	/** The template a missing column points to. */
+	template: string;
+	/** Personal columns: their values never appear in findings. */
+	personal?: (col: C) => boolean;
+	/** An unknown column or property: the message's last words and the rule's own keys. */
+	unknown: (name: string) => { tail: string; rule: Record<string, unknown> };
+	/** A cell's value as read, before the column's zod rule (e.g. a list value normalised). */
+	normalise?: (col: C, value: unknown) => unknown;
+}
 
 /**
- * The checker's state for one file. A class rather than closures: row() runs for every row of large
- * uploads, and per-row closures cost measurably (see `npm run bench -- check`).
+ * What every row checker does the same way, parameterised by the schema: the header (known, duplicate,
+ * blank, unknown and missing columns), reading a row by header or by property name, each cell on its own
+ * (kind, then the column's zod rule) and the required values. The schema's own rules run in `rules`,
+ * and `finish` turns a row without errors into its result. A class rather than closures: row() runs for
+ * every row of large uploads, and per-row closures cost measurably (see `npm run bench -- check`).
  */
-class Checker implements RecordChecker {
-	private readonly stateCounties: ReadonlySet<string> | null;
-	private readonly shapeById: Map<string, CountyShapes['features'][number]>;
-	private readonly servedList: string[] | null;
+export abstract class SchemaRowChecker<C extends string, R> {
+	private readonly index: Readonly<Record<C, number>>;
+	private readonly schemas: z.ZodType[];
+	/** Every column null, in order: copied per row so all records share one object shape. */
+	private readonly empty: Readonly<Record<string, unknown>>;
 	/** Header mode (CSV/XLSX): the header name and 1-based position of each schema column, by column index. */
-	private headerMode = false;
+	protected headerMode = false;
 	private headerFailed = false;
 	private readonly keyAt: Array<string | undefined> = [];
-	private readonly numberAt: Array<number | undefined> = [];
+	protected readonly numberAt: Array<number | undefined> = [];
 	/** Keyed mode (JSON): unknown properties already reported. */
 	private readonly unknownSeen = new Set<string>();
-	private readonly firstRowOfId = new Map<string, number>();
 	// The row being checked.
-	private rowNo = 0;
-	private findings: Finding[] = [];
+	protected rowNo = 0;
+	protected findings: Finding[] = [];
 	private raws: unknown[] = [];
+	private bad: boolean[] = [];
 
-	constructor(private readonly ctx: CheckContext) {
-		this.stateCounties = ctx.stateCounties ?? (ctx.countyShapes ? countyCodes(ctx.countyShapes) : null);
-		this.shapeById = new Map((ctx.countyShapes?.features ?? []).map((f) => [String(f.id), f]));
-		this.servedList = ctx.districtCounties ? [...ctx.districtCounties].sort() : null;
+	constructor(private readonly schema: RowSchema<C>) {
+		this.index = Object.fromEntries(schema.columns.map((c, i) => [c, i])) as Record<C, number>;
+		this.schemas = schema.columns.map((c) => schema.schemaOf(c));
+		this.empty = Object.fromEntries(schema.columns.map((c) => [c, null]));
 		this.header = this.header.bind(this);
 		this.row = this.row.bind(this);
 	}
 
-	private finding(
+	/** The schema's own rules of a row whose cells are read (`rec`: every column, null when absent or bad). */
+	protected abstract rules(rec: Record<string, unknown>): void;
+	/** The result of a row without errors. */
+	protected abstract finish(rec: Record<string, unknown>, findings: Finding[]): { record: R | null; findings: Finding[] };
+
+	/** The 1-based position of a column in the header, or null. */
+	protected columnNumber(col: C): number | null {
+		return this.numberAt[this.index[col]] ?? null;
+	}
+
+	/** True when the column's cell of the current row was unusable (already reported). */
+	protected isBad(col: C): boolean {
+		return this.bad[this.index[col]];
+	}
+
+	protected finding(
 		p: Problem,
 		row: number | null,
-		col: PracticeRecordColumn | null,
+		col: C | null,
 		raw: unknown,
 		columnName?: string,
 		columnNumberOverride?: number | null
 	): Finding {
-		const columnNumber =
-			columnNumberOverride !== undefined ? columnNumberOverride : col ? (this.numberAt[COLUMN_INDEX[col]] ?? null) : null;
-		const personal = col ? COLUMN_INFO[col].personal : false;
+		const columnNumber = columnNumberOverride !== undefined ? columnNumberOverride : col ? (this.numberAt[this.index[col]] ?? null) : null;
+		const personal = col && this.schema.personal ? this.schema.personal(col) : false;
 		const v = display(raw);
 		return {
 			code: p.code,
@@ -559,17 +592,12 @@ class Checker implements RecordChecker {
 	}
 
 	/** Adds a finding about a column of the current row (its value as sent). */
-	private err(
-		col: PracticeRecordColumn,
-		code: string,
-		message: string,
-		rule: Record<string, unknown>,
-		severity: FindingSeverity = 'error'
-	): void {
-		this.findings.push(this.finding({ code, severity, message, rule }, this.rowNo, col, this.raws[COLUMN_INDEX[col]] ?? null));
+	protected err(col: C, code: string, message: string, rule: Record<string, unknown>, severity: FindingSeverity = 'error'): void {
+		this.findings.push(this.finding({ code, severity, message, rule }, this.rowNo, col, this.raws[this.index[col]] ?? null));
 	}
 
 	header(columns: string[], headerRow = 1): Finding[] {
+		const schema = this.schema;
 		this.headerMode = true;
 		this.keyAt.length = 0;
 		this.numberAt.length = 0;
@@ -589,8 +617,8 @@ class Checker implements RecordChecker {
 				out.push(fileLevel(this.finding(p, null, null, null, '', n), n));
 				return;
 			}
-			if (isPracticeRecordColumn(key)) {
-				const first = this.numberAt[COLUMN_INDEX[key]];
+			if (schema.isColumn(key)) {
+				const first = this.numberAt[this.index[key]];
 				if (first !== undefined) {
 					const p: Problem = {
 						code: 'duplicate-column',
@@ -601,25 +629,25 @@ class Checker implements RecordChecker {
 					out.push(fileLevel(this.finding(p, null, key, name, undefined, n), n));
 					return;
 				}
-				this.keyAt[COLUMN_INDEX[key]] = raw;
-				this.numberAt[COLUMN_INDEX[key]] = n;
+				this.keyAt[this.index[key]] = raw;
+				this.numberAt[this.index[key]] = n;
 				return;
 			}
-			const hint = suggestion(name);
+			const unknown = schema.unknown(name);
 			const p: Problem = {
 				code: 'unknown-column',
 				severity: 'warning',
-				message: `The column ${q(name)} is not part of the record schema; its values are ignored.${hint ? ` Did you mean ${q(hint)}?` : ''}`,
-				rule: { rule: 'known-columns', ...(hint ? { suggestion: hint } : {}) }
+				message: `The column ${q(name)} is not part of the ${schema.noun} schema; its values are ignored.${unknown.tail}`,
+				rule: { rule: 'known-columns', ...unknown.rule }
 			};
 			out.push(fileLevel(this.finding(p, null, null, name, name, n), n));
 		});
-		for (const c of REQUIRED_COLUMNS) {
-			if (this.numberAt[COLUMN_INDEX[c]] === undefined) {
+		for (const c of schema.required) {
+			if (this.numberAt[this.index[c]] === undefined) {
 				const p: Problem = {
 					code: 'missing-column',
 					severity: 'error',
-					message: `The file has no ${q(c)} column. It is required; add it to the header row (see the template).`,
+					message: `The file has no ${q(c)} column. It is required; add it to the header row (see the ${schema.template}).`,
 					rule: { rule: 'required-column' }
 				};
 				out.push(this.finding(p, null, c, null, undefined, null));
@@ -629,10 +657,11 @@ class Checker implements RecordChecker {
 		return out;
 	}
 
-	row(values: Record<string, unknown>, rowNo: number): RowResult {
-		const ctx = this.ctx;
+	row(values: Record<string, unknown>, rowNo: number): { record: R | null; findings: Finding[] } {
+		const schema = this.schema;
+		const columns = schema.columns;
 		const findings: Finding[] = [];
-		const raws: unknown[] = new Array(PRACTICE_RECORD_COLUMNS.length);
+		const raws: unknown[] = new Array(columns.length);
 		this.rowNo = rowNo;
 		this.findings = findings;
 		this.raws = raws;
@@ -646,19 +675,19 @@ class Checker implements RecordChecker {
 			for (const key in values) {
 				if (!Object.hasOwn(values, key)) continue;
 				const col = normaliseHeader(key);
-				if (isPracticeRecordColumn(col)) {
-					const i = COLUMN_INDEX[col];
+				if (schema.isColumn(col)) {
+					const i = this.index[col];
 					if (raws[i] === undefined) raws[i] = values[key];
 					continue;
 				}
 				if (!this.unknownSeen.has(key)) {
 					this.unknownSeen.add(key);
-					const hint = suggestion(key);
+					const unknown = schema.unknown(key);
 					const p: Problem = {
 						code: 'unknown-column',
 						severity: 'warning',
-						message: `The property ${q(key)} (first seen in row ${rowNo}) is not part of the record schema; it is ignored.${hint ? ` Did you mean ${q(hint)}?` : ''}`,
-						rule: { rule: 'known-columns', first_row: rowNo, ...(hint ? { suggestion: hint } : {}) }
+						message: `The property ${q(key)} (first seen in row ${rowNo}) is not part of the ${schema.noun} schema; it is ignored.${unknown.tail}`,
+						rule: { rule: 'known-columns', first_row: rowNo, ...unknown.rule }
 					};
 					findings.push(this.finding(p, null, null, null, key, null));
 				}
@@ -666,12 +695,15 @@ class Checker implements RecordChecker {
 		}
 
 		// 1. Each cell on its own: kind, then the zod rule of the column.
-		const rec: Record<string, unknown> = { ...EMPTY_RECORD };
+		const rec: Record<string, unknown> = { ...this.empty };
 		const bad: boolean[] = new Array(raws.length).fill(false);
-		for (let i = 0; i < PRACTICE_RECORD_COLUMNS.length; i++) {
-			const col = PRACTICE_RECORD_COLUMNS[i];
+		this.bad = bad;
+		for (let i = 0; i < columns.length; i++) {
+			const col = columns[i];
+			const info = schema.info[col];
 			const raw = raws[i];
-			const r = readCell(col, raw);
+			let r = readCell(col, raw, info);
+			if (schema.normalise && r.value !== null) r = { ...r, value: schema.normalise(col, r.value) };
 			if (r.warnings) for (const w of r.warnings) findings.push(this.finding(w, rowNo, col, raw));
 			if (r.problem) {
 				findings.push(this.finding(r.problem, rowNo, col, raw));
@@ -683,33 +715,78 @@ class Checker implements RecordChecker {
 				rec[col] = null;
 				continue;
 			}
-			const parsed = COLUMN_SCHEMAS[i].safeParse(r.value);
+			const parsed = this.schemas[i].safeParse(r.value);
 			if (!parsed.success) {
-				findings.push(this.finding(zodProblem(col, r.value, parsed.error.issues[0]), rowNo, col, raw));
+				findings.push(this.finding(zodProblem(col, r.value, parsed.error.issues[0], info.hint), rowNo, col, raw));
 				bad[i] = true;
 				rec[col] = null;
 				continue;
 			}
 			rec[col] = parsed.data;
 		}
-		const isBad = (col: PracticeRecordColumn) => bad[COLUMN_INDEX[col]];
 
 		// 2. Required values.
-		for (const col of REQUIRED_COLUMNS) {
-			if (rec[col] === null && !isBad(col)) {
-				if (this.headerMode && this.numberAt[COLUMN_INDEX[col]] === undefined) continue; // reported once as missing-column
-				this.err(col, 'required-missing', `${q(col)} is empty. Every row needs ${COLUMN_INFO[col].title.toLowerCase()}.`, {
+		for (const col of schema.required) {
+			if (rec[col] === null && !bad[this.index[col]]) {
+				if (this.headerMode && this.numberAt[this.index[col]] === undefined) continue; // reported once as missing-column
+				this.err(col, 'required-missing', `${q(col)} is empty. Every ${schema.rowNoun} needs ${schema.info[col].title.toLowerCase()}.`, {
 					rule: 'required'
 				});
 			}
 		}
-		if (rec.status === null && !isBad('status')) rec.status = 'installed';
+
+		// 3. The schema's own rules.
+		this.rules(rec);
+
+		let hasError = this.headerFailed;
+		for (let i = 0; i < findings.length && !hasError; i++)
+			if (findings[i].severity === 'error' && findings[i].row !== null) hasError = true;
+		if (hasError) return { record: null, findings };
+		return this.finish(rec, findings);
+	}
+}
+
+const RECORD_ROWS: RowSchema<PracticeRecordColumn> = {
+	columns: PRACTICE_RECORD_COLUMNS,
+	info: COLUMN_INFO,
+	required: REQUIRED_COLUMNS,
+	isColumn: isPracticeRecordColumn,
+	schemaOf: columnSchema,
+	noun: 'record',
+	rowNoun: 'row',
+	template: 'template',
+	personal: (col) => COLUMN_INFO[col].personal,
+	unknown: (name) => {
+		const hint = suggestion(name);
+		return { tail: hint ? ` Did you mean ${q(hint)}?` : '', rule: hint ? { suggestion: hint } : {} };
+	}
+};
+const DETAIL_COLUMNS = PRACTICE_RECORD_COLUMNS.filter((c) => COLUMN_INFO[c].practices !== null);
+
+/** The record checker's state for one file: the common checks, then the record's own rules. */
+class Checker extends SchemaRowChecker<PracticeRecordColumn, PracticeRecordV1> implements RecordChecker {
+	private readonly stateCounties: ReadonlySet<string> | null;
+	private readonly shapeById: Map<string, CountyShapes['features'][number]>;
+	private readonly servedList: string[] | null;
+	private readonly firstRowOfId = new Map<string, number>();
+
+	constructor(private readonly ctx: CheckContext) {
+		super(RECORD_ROWS);
+		this.stateCounties = ctx.stateCounties ?? (ctx.countyShapes ? countyCodes(ctx.countyShapes) : null);
+		this.shapeById = new Map((ctx.countyShapes?.features ?? []).map((f) => [String(f.id), f]));
+		this.servedList = ctx.districtCounties ? [...ctx.districtCounties].sort() : null;
+	}
+
+	protected rules(rec: Record<string, unknown>): void {
+		const ctx = this.ctx;
+		const rowNo = this.rowNo;
+		if (rec.status === null && !this.isBad('status')) rec.status = 'installed';
 
 		// 3. Required per practice (the catalog's credited basis) and detail columns of other practices.
 		const practice = typeof rec.practice_code === 'string' ? practiceByCode(rec.practice_code) : undefined;
 		if (practice) {
 			const basis = practice.credited_basis;
-			if (rec[basis] === null && !isBad(basis)) {
+			if (rec[basis] === null && !this.isBad(basis)) {
 				this.err(
 					basis,
 					'required-for-practice',
@@ -734,7 +811,7 @@ class Checker implements RecordChecker {
 		// 4. Status and dates.
 		const installed = rec.installed_on as string | null;
 		const withdrawn = rec.withdrawn_on as string | null;
-		if (rec.status === 'withdrawn' && withdrawn === null && !isBad('withdrawn_on')) {
+		if (rec.status === 'withdrawn' && withdrawn === null && !this.isBad('withdrawn_on')) {
 			this.err(
 				'withdrawn_on',
 				'withdrawn-date-missing',
@@ -790,7 +867,7 @@ class Checker implements RecordChecker {
 			);
 		const lat = rec.latitude as number | null;
 		const lon = rec.longitude as number | null;
-		if ((lat === null) !== (lon === null) && !isBad('latitude') && !isBad('longitude')) {
+		if ((lat === null) !== (lon === null) && !this.isBad('latitude') && !this.isBad('longitude')) {
 			const missing = lat === null ? 'latitude' : 'longitude';
 			this.err(missing, 'coordinates-incomplete', `Send latitude and longitude together: ${q(missing)} is empty.`, {
 				rule: 'together',
@@ -862,17 +939,17 @@ class Checker implements RecordChecker {
 					'warning'
 				);
 		}
+	}
 
-		let hasError = this.headerFailed;
-		for (let i = 0; i < findings.length && !hasError; i++)
-			if (findings[i].severity === 'error' && findings[i].row !== null) hasError = true;
-		if (hasError) return { record: null, findings };
+	protected finish(rec: Record<string, unknown>, findings: Finding[]): RowResult {
+		const ctx = this.ctx;
+		const rowNo = this.rowNo;
 		const record = rec as PracticeRecordV1;
 		if (ctx.designChecks) {
 			let designError = false;
 			for (const f of ctx.designChecks(record)) {
 				const col = f.column && isPracticeRecordColumn(f.column) ? f.column : null;
-				const number = f.column_number ?? (col ? (this.numberAt[COLUMN_INDEX[col]] ?? null) : null);
+				const number = f.column_number ?? (col ? this.columnNumber(col) : null);
 				if (f.severity === 'error') designError = true;
 				findings.push({
 					...f,
