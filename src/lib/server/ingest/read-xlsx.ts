@@ -47,15 +47,12 @@ interface StreamingWorkbookReader extends AsyncIterable<StreamingWorksheet> {
 	_parseRels(entry: Readable): Promise<void>;
 }
 
-/** One (small) part of a checked archive, read through its central-directory entry. */
+/** One (small) part of a checked archive, read from the data range zip-guard found for its entry. */
 async function readPart(file: string, e: ZipEntryInfo): Promise<Buffer> {
 	const fh = await open(file, 'r');
 	try {
-		const head = Buffer.alloc(30);
-		await fh.read(head, 0, 30, e.localHeaderOffset);
-		const start = e.localHeaderOffset + 30 + head.readUInt16LE(26) + head.readUInt16LE(28);
 		const data = Buffer.alloc(e.compressedSize);
-		await fh.read(data, 0, e.compressedSize, start);
+		await fh.read(data, 0, e.compressedSize, e.dataStart);
 		return e.method === 8 ? inflateRawSync(data, { maxOutputLength: e.uncompressedSize + 1 }) : data;
 	} finally {
 		await fh.close();

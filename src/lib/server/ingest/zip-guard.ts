@@ -17,6 +17,8 @@ export interface ZipEntryInfo {
 	compressedSize: number;
 	uncompressedSize: number;
 	localHeaderOffset: number;
+	/** Where the entry's (compressed) data starts: after its local header, as checked against the directory. */
+	dataStart: number;
 }
 
 export type ZipProblem = 'empty-file' | 'xlsx-not-zip' | 'xlsx-encrypted' | 'xlsx-too-large' | 'xlsx-invalid';
@@ -121,14 +123,13 @@ export async function inspectZip(path: string, limits: ReadLimits): Promise<ZipV
 			if (compressedSize === 0xffffffff || uncompressedSize === 0xffffffff || localHeaderOffset === 0xffffffff)
 				return fail('xlsx-invalid', 'The workbook uses the ZIP64 format, which Runnel does not read. Save it again from your spreadsheet.');
 			declared += uncompressedSize;
-			entries.push({ name, flags, method, compressedSize, uncompressedSize, localHeaderOffset });
+			entries.push({ name, flags, method, compressedSize, uncompressedSize, localHeaderOffset, dataStart: -1 });
 		}
 		if (declared > limits.maxUncompressedBytes) return tooLarge(limits);
 
 		// Entries must sit end to end from byte 0 to the directory, each local header matching it.
 		const ordered = [...entries].sort((a, b) => a.localHeaderOffset - b.localHeaderOffset);
 		let expected = 0;
-		const dataRanges = new Map<ZipEntryInfo, { start: number; end: number }>();
 		for (const e of ordered) {
 			if (e.localHeaderOffset !== expected)
 				return fail('xlsx-invalid', 'The workbook is damaged or altered: its ZIP entries do not line up with its directory.');
@@ -148,7 +149,7 @@ export async function inspectZip(path: string, limits: ReadLimits): Promise<ZipV
 				next = end + (d.length === 4 && d.readUInt32LE(0) === SIG_DESCRIPTOR ? 16 : 12);
 			}
 			if (end > cdOffset) return fail('xlsx-invalid', 'The workbook is damaged: a ZIP entry runs past its end.');
-			dataRanges.set(e, { start, end });
+			e.dataStart = start;
 			expected = next;
 		}
 		if (expected !== cdOffset)
@@ -158,7 +159,6 @@ export async function inspectZip(path: string, limits: ReadLimits): Promise<ZipV
 		let total = 0;
 		let compressed = 0;
 		for (const e of ordered) {
-			const range = dataRanges.get(e)!;
 			compressed += e.compressedSize;
 			if (e.method === 0) {
 				if (e.compressedSize !== e.uncompressedSize)
@@ -167,7 +167,12 @@ export async function inspectZip(path: string, limits: ReadLimits): Promise<ZipV
 				continue;
 			}
 			if (e.compressedSize === 0) return fail('xlsx-invalid', 'The workbook is damaged: a ZIP entry is empty.');
-			const r = await inflatedSize(path, range.start, range.end, Math.min(e.uncompressedSize, limits.maxUncompressedBytes - total));
+			const r = await inflatedSize(
+				path,
+				e.dataStart,
+				e.dataStart + e.compressedSize,
+				Math.min(e.uncompressedSize, limits.maxUncompressedBytes - total)
+			);
 			if (r === 'over') return tooLarge(limits);
 			if (r === 'corrupt') return fail('xlsx-invalid', `The workbook is damaged: the part ${e.name} cannot be unpacked.`);
 			if (r !== e.uncompressedSize) return fail('xlsx-invalid', `The workbook is damaged: the part ${e.name} has the wrong size.`);
