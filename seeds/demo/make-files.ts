@@ -70,114 +70,55 @@ async function main() {
 		media_porosity: 0.7,
 		cover_species: null
 	};
+	const fault = (column: string, code: string, severity: Mistake['severity'], what: string) => ({ column, code, severity, what });
+	// One mistake per row, in file order: the values that differ from the cover-crop row (or the bioreactor
+	// row, when given) and the mistake. The n-th of them has local id n + 1 unless it sets its own.
+	const MISTAKES: Array<[DemoRow, Omit<Mistake, 'row'>, DemoRow?]> = [
+		[{ practice_code: '999' }, fault('practice_code', 'not-in-list', 'error', 'a practice code that is not in the practice list')],
+		[
+			{ county_fips: '19033' },
+			fault('county_fips', 'county-not-served', 'error', "another district's county (Cerro Gordo is served by Kettle Prairie)")
+		],
+		[{ county_fips: '1910' }, fault('county_fips', 'bad-format', 'error', 'a county code with four digits (the leading zero lost)')],
+		[{ installed_on: '2026-02-30' }, fault('installed_on', 'bad-date', 'error', 'a date that does not exist (30 February)')],
+		[{ installed_on: '03/15/2024' }, fault('installed_on', 'bad-date', 'error', 'a US-style date instead of YYYY-MM-DD')],
+		[{ installed_on: '2031-05-01' }, fault('installed_on', 'date-in-future', 'error', 'an install date in the future')],
+		[{ extent_acres: null }, fault('extent_acres', 'required-for-practice', 'error', 'acres missing for an in-field practice (cover crop)')],
+		[{ drainage_area_acres: -12 }, fault('drainage_area_acres', 'below-minimum', 'error', 'a negative drainage area for a bioreactor'), bio],
+		[
+			{ cost_total_usd: 5000, cost_share_usd: 9000 },
+			fault('cost_share_usd', 'share-exceeds-total', 'error', 'cost share larger than the total cost')
+		],
+		[
+			{ status: 'withdrawn', withdrawn_on: null },
+			fault('withdrawn_on', 'withdrawn-date-missing', 'error', 'withdrawn without the date it was withdrawn')
+		],
+		[{ local_id: id(1) }, fault('local_id', 'duplicate-local-id', 'error', 'the same local id as row 2')],
+		[{ huc12: '07100004030' }, fault('huc12', 'bad-format', 'error', 'a watershed code with 11 digits instead of 12')],
+		[{ extent_acres: '1,5' }, fault('extent_acres', 'number-format', 'error', 'a decimal comma (1,5) instead of a decimal point')],
+		[{ latitude: 95 }, fault('latitude', 'above-maximum', 'error', 'a latitude above 90 degrees')],
+		[
+			{ extent_acres: 90000 },
+			fault('extent_acres', 'acres-implausible', 'warning', 'an implausibly large cover-crop acreage (accepted, flagged for review)')
+		],
+		[
+			{ notes: '=HYPERLINK("http://example.org","see plan")' },
+			fault('notes', 'formula-in-cell', 'warning', 'a spreadsheet formula in the notes (kept as plain text, flagged)')
+		],
+		[
+			{ bed_length_ft: 50, bed_width_ft: 10, bed_depth_ft: 3, main_diameter_in: 12 },
+			fault(
+				'bed_length_ft',
+				'bioreactor-treats-under-15pct',
+				'warning',
+				'a bioreactor bed too small for its drained area (design screening; accepted, flagged for review)'
+			),
+			bio
+		]
+	];
 
 	add(row({ local_id: id(1) }, cover));
-	add(row({ local_id: id(2), practice_code: '999' }, cover), {
-		column: 'practice_code',
-		code: 'not-in-list',
-		severity: 'error',
-		what: 'a practice code that is not in the practice list'
-	});
-	add(row({ local_id: id(3), county_fips: '19033' }, cover), {
-		column: 'county_fips',
-		code: 'county-not-served',
-		severity: 'error',
-		what: "another district's county (Cerro Gordo is served by Kettle Prairie)"
-	});
-	add(row({ local_id: id(4), county_fips: '1910' }, cover), {
-		column: 'county_fips',
-		code: 'bad-format',
-		severity: 'error',
-		what: 'a county code with four digits (the leading zero lost)'
-	});
-	add(row({ local_id: id(5), installed_on: '2026-02-30' }, cover), {
-		column: 'installed_on',
-		code: 'bad-date',
-		severity: 'error',
-		what: 'a date that does not exist (30 February)'
-	});
-	add(row({ local_id: id(6), installed_on: '03/15/2024' }, cover), {
-		column: 'installed_on',
-		code: 'bad-date',
-		severity: 'error',
-		what: 'a US-style date instead of YYYY-MM-DD'
-	});
-	add(row({ local_id: id(7), installed_on: '2031-05-01' }, cover), {
-		column: 'installed_on',
-		code: 'date-in-future',
-		severity: 'error',
-		what: 'an install date in the future'
-	});
-	add(row({ local_id: id(8), extent_acres: null }, cover), {
-		column: 'extent_acres',
-		code: 'required-for-practice',
-		severity: 'error',
-		what: 'acres missing for an in-field practice (cover crop)'
-	});
-	add(row({ local_id: id(9), drainage_area_acres: -12 }, bio), {
-		column: 'drainage_area_acres',
-		code: 'below-minimum',
-		severity: 'error',
-		what: 'a negative drainage area for a bioreactor'
-	});
-	add(row({ local_id: id(10), cost_total_usd: 5000, cost_share_usd: 9000 }, cover), {
-		column: 'cost_share_usd',
-		code: 'share-exceeds-total',
-		severity: 'error',
-		what: 'cost share larger than the total cost'
-	});
-	add(row({ local_id: id(11), status: 'withdrawn', withdrawn_on: null }, cover), {
-		column: 'withdrawn_on',
-		code: 'withdrawn-date-missing',
-		severity: 'error',
-		what: 'withdrawn without the date it was withdrawn'
-	});
-	add(row({ local_id: id(1) }, cover), {
-		column: 'local_id',
-		code: 'duplicate-local-id',
-		severity: 'error',
-		what: 'the same local id as row 2'
-	});
-	add(row({ local_id: id(13), huc12: '07100004030' }, cover), {
-		column: 'huc12',
-		code: 'bad-format',
-		severity: 'error',
-		what: 'a watershed code with 11 digits instead of 12'
-	});
-	add(row({ local_id: id(14), extent_acres: '1,5' }, cover), {
-		column: 'extent_acres',
-		code: 'number-format',
-		severity: 'error',
-		what: 'a decimal comma (1,5) instead of a decimal point'
-	});
-	add(row({ local_id: id(15), latitude: 95 }, cover), {
-		column: 'latitude',
-		code: 'above-maximum',
-		severity: 'error',
-		what: 'a latitude above 90 degrees'
-	});
-	add(row({ local_id: id(16), extent_acres: 90000 }, cover), {
-		column: 'extent_acres',
-		code: 'acres-implausible',
-		severity: 'warning',
-		what: 'an implausibly large cover-crop acreage (accepted, flagged for review)'
-	});
-	add(row({ local_id: id(17), notes: '=HYPERLINK("http://example.org","see plan")' }, cover), {
-		column: 'notes',
-		code: 'formula-in-cell',
-		severity: 'warning',
-		what: 'a spreadsheet formula in the notes (kept as plain text, flagged)'
-	});
-
-	add(
-		row({ local_id: id(18), bed_length_ft: 50, bed_width_ft: 10, bed_depth_ft: 3, main_diameter_in: 12 }, bio),
-		{
-			column: 'bed_length_ft',
-			code: 'bioreactor-treats-under-15pct',
-			severity: 'warning',
-			what: 'a bioreactor bed too small for its drained area (design screening; accepted, flagged for review)'
-		}
-	);
+	MISTAKES.forEach(([over, mistake, from], i) => add(row({ local_id: id(i + 2), ...over }, from ?? cover), mistake));
 
 	writeFileSync(path.join(DIR, 'mistakes.csv'), toCsv(rows));
 	writeFileSync(path.join(DIR, 'mistakes.json'), JSON.stringify({ file: 'mistakes.csv', district: 'BLH', mistakes }, null, '\t') + '\n');
