@@ -35,7 +35,7 @@ const config = {
 			config(tsconfig) {
 				tsconfig.include.push(
 					'../cli/**/*.ts',
-					'../eslint.config.js',
+					'../scripts/eslint.config.js',
 					'../scripts/**/*.ts',
 					'../tests/**/*.ts',
 					'../migrations/**/*.ts',
