@@ -1,17 +1,20 @@
-// Reading the research dataset from the database: cell contributions for the small-cell rule (one
-// aggregate query), then the records themselves in keyset batches so no export holds the whole result.
+// Reading the research dataset from the database: per-cell aggregates for the small-cell rule (computed in
+// SQL, a few thousand rows), then the records themselves in keyset batches so no export holds the whole result.
 // Source: record_estimates under the active reduction method (state fiscal years), the record's install
 // date and funding program, the district's region and the practice name. Records count when installed
 // (not withdrawn) or when they were in service in some fiscal year.
 import { sql, type Kysely } from 'kysely';
 import {
 	baseCellKey,
-	decideCells,
+	decideCellAggregates,
 	huc8Of,
 	toRow,
 	type AnonymiseCounts,
+	type CellAggregate,
 	type CellDecision,
+	type CellPool,
 	type DatasetRow,
+	type OpStats,
 	type SourceRecord
 } from '../../domain/anonymise';
 import type { Database } from '../db/schema';
@@ -47,6 +50,99 @@ async function rules(db: Kysely<Database>): Promise<{ k: number; dominance: numb
 	return { k: smallCellKOf(s.get(SETTING_KEYS.smallCellK)), dominance: d > 0 && d <= 1 ? d : 0.6 };
 }
 
+interface StatsRow {
+	operations: number;
+	acres: string;
+	top_acres: string;
+}
+
+const opStats = (r: StatsRow): OpStats => ({ operations: r.operations, acres: Number(r.acres), top_acres: Number(r.top_acres) });
+
+/**
+ * Per-cell aggregates for the small-cell rule, computed in PostgreSQL: one row per county × FY × practice ×
+ * HUC-8 group and one per cell, never one per record or operation. An operation's acres in a cell (or a HUC-8
+ * group) are its records' credited acres summed (never below 0).
+ */
+async function cellAggregates(db: Kysely<Database>, version: string): Promise<CellAggregate[]> {
+	const res = await sql<
+		StatsRow & {
+			county_fips: string;
+			fy: number;
+			practice_code: string;
+			huc8: string | null;
+			is_cell: boolean;
+			region: string;
+			records: number;
+		}
+	>`
+		with ops as (
+			select e.county_fips, e.state_fy_installed as fy, e.practice_code, coalesce(e.huc8, '') as huc8, e.operation_key,
+				min(d.region) as region, greatest(sum(e.credited_acres), 0) as acres, count(*)::int as records
+			from record_estimates e join records r on r.id = e.record_id join districts d on d.id = e.district_id
+			where e.method_version = ${version} and ${INCLUDED}
+			group by 1, 2, 3, 4, 5
+		), cell_ops as (
+			select county_fips, fy, practice_code, operation_key, min(region) as region, sum(acres) as acres, sum(records) as records
+			from ops group by 1, 2, 3, 4
+		)
+		select county_fips, fy, practice_code, null as huc8, true as is_cell, min(region) as region, sum(records)::int as records,
+			count(*)::int as operations, sum(acres)::text as acres, max(acres)::text as top_acres
+		from cell_ops group by 1, 2, 3
+		union all
+		select county_fips, fy, practice_code, huc8, false, '', 0, count(*)::int, sum(acres)::text, max(acres)::text
+		from ops group by 1, 2, 3, 4
+		order by 1, 2, 3, 5 desc`.execute(db);
+	const cells: CellAggregate[] = [];
+	let groups: OpStats[] = [];
+	for (const r of res.rows) {
+		if (r.is_cell) {
+			groups = [];
+			cells.push({
+				method_version: version,
+				county_fips: r.county_fips,
+				region: r.region,
+				state_fips: r.county_fips.slice(0, 2),
+				fy_installed: r.fy,
+				practice_code: r.practice_code,
+				records: r.records,
+				...opStats(r),
+				huc8_groups: groups
+			});
+		} else groups.push(opStats(r));
+	}
+	return cells;
+}
+
+/** The rule's pool questions answered in PostgreSQL: the union of the member cells' operations per pool. */
+async function poolStats(db: Kysely<Database>, version: string, pools: readonly CellPool[]): Promise<Map<string, OpStats>> {
+	const county: string[] = [];
+	const fy: number[] = [];
+	const practice: string[] = [];
+	const key: string[] = [];
+	for (const p of pools) {
+		for (const c of p.cells) {
+			county.push(c.county_fips);
+			fy.push(c.fy_installed);
+			practice.push(c.practice_code);
+			key.push(p.key);
+		}
+	}
+	const res = await sql<StatsRow & { pool: string }>`
+		with members as (
+			select * from unnest(${county}::text[], ${fy}::int[], ${practice}::text[], ${key}::text[]) as m(county_fips, fy, practice_code, pool)
+		), ops as (
+			select m.pool, e.operation_key, greatest(sum(e.credited_acres), 0) as acres
+			from record_estimates e join records r on r.id = e.record_id
+				join members m on m.county_fips = e.county_fips and m.fy = e.state_fy_installed and m.practice_code = e.practice_code
+			where e.method_version = ${version} and ${INCLUDED}
+			group by m.pool, e.county_fips, e.state_fy_installed, e.practice_code, coalesce(e.huc8, ''), e.operation_key
+		)
+		select pool, count(*)::int as operations, sum(acres)::text as acres, max(acres)::text as top_acres
+		from (select pool, operation_key, sum(acres) as acres from ops group by 1, 2) as pool_ops
+		group by pool`.execute(db);
+	return new Map(res.rows.map((r) => [r.pool, opStats(r)]));
+}
+
 let cache: { stamp: string; ctx: DatasetContext } | null = null;
 
 /** The cell decisions for the whole dataset (never for a filtered part), cached until the estimates change. */
@@ -58,36 +154,10 @@ export async function datasetContext(db: Kysely<Database>, methodVersion?: strin
 		from record_estimates where method_version = ${version}`.execute(db);
 	const stamp = `${version}|${k}|${dominance}|${stampRow.rows[0]?.stamp}`;
 	if (cache?.stamp === stamp) return cache.ctx;
-	const contributions = await sql<{
-		county_fips: string;
-		region: string;
-		fy: number;
-		practice_code: string;
-		huc8: string | null;
-		operation_key: string;
-		acres: string;
-		records: number;
-	}>`
-		select e.county_fips, d.region, e.state_fy_installed as fy, e.practice_code, e.huc8, e.operation_key,
-			sum(e.credited_acres)::text as acres, count(*)::int as records
-		from record_estimates e join records r on r.id = e.record_id join districts d on d.id = e.district_id
-		where e.method_version = ${version} and ${INCLUDED}
-		group by 1, 2, 3, 4, 5, 6`.execute(db);
-	const { decisions, counts } = decideCells(
-		contributions.rows.map((c) => ({
-			method_version: version,
-			county_fips: c.county_fips,
-			region: c.region,
-			state_fips: c.county_fips.slice(0, 2),
-			fy_installed: c.fy,
-			practice_code: c.practice_code,
-			huc8: c.huc8,
-			operation_key: c.operation_key,
-			acres: Number(c.acres),
-			records: c.records
-		})),
-		{ k, dominance }
-	);
+	const steps = decideCellAggregates(await cellAggregates(db, version), { k, dominance });
+	let step = steps.next();
+	while (!step.done) step = steps.next(await poolStats(db, version, step.value));
+	const { decisions, counts } = step.value;
 	const ctx: DatasetContext = { methodVersion: version, k, dominance, decisions, counts, pseudonym: await pseudonymiser(db) };
 	cache = { stamp, ctx };
 	return ctx;
