@@ -25,12 +25,15 @@ beforeAll(async () => {
 	const a = await createDistrict(db, 'DDEA', 'Decision check district A', 'DC North', ['19033', '19035']);
 	const b = await createDistrict(db, 'DDEB', 'Decision check district B', 'DC North', ['19037']);
 	const c = await createDistrict(db, 'DDEC', 'Decision check district C', 'DC South', ['19039', '19041']);
+	// A county shared by districts of two regions (its cells take the first region by name, on both paths).
+	const d = await createDistrict(db, 'DDED', 'Decision check district D', 'DC East', ['19037']);
 	districts.push(
 		{ id: a, county: '19033' },
 		{ id: a, county: '19035' },
 		{ id: b, county: '19037' },
 		{ id: c, county: '19039' },
-		{ id: c, county: '19041' }
+		{ id: c, county: '19041' },
+		{ id: d, county: '19037' }
 	);
 }, 120_000);
 afterAll(async () => {
@@ -80,7 +83,7 @@ const scenario = fc.record({
 	k: fc.integer({ min: 2, max: 5 }),
 	records: fc.array(
 		fc.record({
-			where: fc.nat({ max: 4 }),
+			where: fc.nat({ max: 5 }),
 			practice_code: fc.constantFrom('605', '340'),
 			fyOffset: fc.integer({ min: 0, max: 1 }),
 			operation: fc.constantFrom('o1', 'o2', 'o3', 'o4', 'o5', null),

@@ -259,7 +259,11 @@ function groupBy<T>(items: Iterable<T>, key: (t: T) => string): Map<string, T[]>
 	return m;
 }
 
-export type CellDecision = { level: AreaLevel; showHuc8: boolean } | null;
+/**
+ * How a base cell is published: its area level, whether its county rows show HUC-8, and the cell's region
+ * (the region a region-level row names: the pool's, never a record's own district's). Null = suppressed.
+ */
+export type CellDecision = { level: AreaLevel; showHuc8: boolean; region: string } | null;
 export type CellLocator = Pick<SourceRecord, 'method_version' | 'county_fips' | 'fy_installed' | 'practice_code'>;
 
 export const baseCellKey = (c: CellLocator): string => `${c.method_version}|${c.county_fips}|${c.fy_installed}|${c.practice_code}`;
@@ -328,7 +332,7 @@ export function* decideCellAggregates(
 			counts.published_as_county++;
 			const showHuc8 = cell.huc8_groups.every((g) => passesRule(g, k, dominance));
 			if (!showHuc8) counts.huc8_withheld++;
-			decisions.set(baseCellKey(cell), { level: 'county', showHuc8 });
+			decisions.set(baseCellKey(cell), { level: 'county', showHuc8, region: cell.region });
 		} else {
 			if (cell.operations >= k) counts.dominated++;
 			small.push(cell);
@@ -349,7 +353,7 @@ export function* decideCellAggregates(
 		if (!s) throw new Error(`no statistics for pool ${pool.key}`);
 		if (passesRule(s, k, dominance)) {
 			counts.generalised_to_region += pool.cells.length;
-			for (const c of pool.cells) decisions.set(baseCellKey(c), { level: 'region', showHuc8: false });
+			for (const c of pool.cells) decisions.set(baseCellKey(c), { level: 'region', showHuc8: false, region: c.region });
 		} else leftover.push(...pool.cells);
 	}
 	const statePools: CellPool[] = [];
@@ -364,7 +368,7 @@ export function* decideCellAggregates(
 		if (!s) throw new Error(`no statistics for pool ${pool.key}`);
 		if (passesRule(s, k, dominance)) {
 			counts.generalised_to_state += pool.cells.length;
-			for (const c of pool.cells) decisions.set(baseCellKey(c), { level: 'state', showHuc8: false });
+			for (const c of pool.cells) decisions.set(baseCellKey(c), { level: 'state', showHuc8: false, region: c.region });
 		} else {
 			counts.suppressed += pool.cells.length;
 			for (const c of pool.cells) {
@@ -379,6 +383,8 @@ export function* decideCellAggregates(
 interface Cell {
 	key: string;
 	first: CellContribution;
+	/** The cell's region: the first in sort order of its records' district regions (a county shared by districts of two regions has one). */
+	region: string;
 	ops: OpAcres;
 	huc: Map<string, OpAcres>;
 	records: number;
@@ -396,7 +402,8 @@ export function decideCells(
 	for (const c of contributions) {
 		const key = baseCellKey(c);
 		let cell = cells.get(key);
-		if (!cell) cells.set(key, (cell = { key, first: c, ops: new Map(), huc: new Map(), records: 0 }));
+		if (!cell) cells.set(key, (cell = { key, first: c, region: c.region, ops: new Map(), huc: new Map(), records: 0 }));
+		if (c.region < cell.region) cell.region = c.region;
 		addOp(cell.ops, c.operation_key, c.acres);
 		const h = c.huc8 ?? '';
 		if (!cell.huc.has(h)) cell.huc.set(h, new Map());
@@ -408,7 +415,7 @@ export function decideCells(
 		county_fips: c.first.county_fips,
 		fy_installed: c.first.fy_installed,
 		practice_code: c.first.practice_code,
-		region: c.first.region,
+		region: c.region,
 		state_fips: c.first.state_fips,
 		records: c.records,
 		...opStatsOf(c.ops),
@@ -438,8 +445,9 @@ export function contributionOf(r: SourceRecord): CellContribution {
 	};
 }
 
-/** One record → its published row at the given area level (HUC-8 decided by the caller). */
-export function toRow(r: SourceRecord, level: AreaLevel, huc8: string | null, pseudonym: (id: string) => string): DatasetRow {
+/** One record → its published row as its cell's decision says (area level, HUC-8 shown or not, the cell's region). */
+export function toRow(r: SourceRecord, d: NonNullable<CellDecision>, pseudonym: (id: string) => string): DatasetRow {
+	const level = d.level;
 	const { year, month } = yearMonth(r.installed_on);
 	const acres = roundAcres(r.credited_acres);
 	const exact = r.credited_acres ?? 0;
@@ -450,9 +458,9 @@ export function toRow(r: SourceRecord, level: AreaLevel, huc8: string | null, ps
 		practice_name: r.practice_name,
 		area_level: level,
 		county_fips: level === 'county' ? r.county_fips : null,
-		region: level === 'region' ? r.region : null,
+		region: level === 'region' ? d.region : null,
 		state_fips: r.state_fips,
-		huc8: level === 'county' ? huc8 : null,
+		huc8: level === 'county' && d.showHuc8 ? huc8Of(r.huc12) : null,
 		install_year: year,
 		install_month: month,
 		fy_installed: r.fy_installed,
@@ -487,7 +495,7 @@ export function anonymise(records: readonly SourceRecord[], opts: AnonymiseOptio
 	const rows: DatasetRow[] = [];
 	for (const r of records) {
 		const d = decisions.get(baseCellKey(r));
-		if (d) rows.push(toRow(r, d.level, d.showHuc8 ? huc8Of(r.huc12) : null, opts.pseudonym));
+		if (d) rows.push(toRow(r, d, opts.pseudonym));
 	}
 	return { rows, counts };
 }

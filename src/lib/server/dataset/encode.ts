@@ -1,5 +1,4 @@
-// Dataset rows as CSV or NDJSON byte streams, pulled from an async row source (backpressure: the next
-// batch is read only when the consumer wants more).
+// Dataset rows as CSV or NDJSON text (release files; the live CSV is PostgreSQL's COPY of the same rows).
 import { stringify } from 'csv-stringify/sync';
 import { DATASET_COLUMNS, type DatasetRow } from '../../domain/anonymise';
 
@@ -43,37 +42,4 @@ export function ndjsonLines(rows: DatasetRow[]): string {
 	let out = '';
 	for (const r of rows) out += JSON.stringify(r) + '\n';
 	return out;
-}
-
-/** Rows → text chunks of about `chunk` rows each. */
-export async function* encodeRows(rows: AsyncIterable<DatasetRow>, format: 'csv' | 'ndjson', chunk = 1000): AsyncGenerator<string> {
-	if (format === 'csv') yield csvHeader();
-	let buf: DatasetRow[] = [];
-	for await (const r of rows) {
-		buf.push(r);
-		if (buf.length >= chunk) {
-			yield format === 'csv' ? csvLines(buf) : ndjsonLines(buf);
-			buf = [];
-		}
-	}
-	if (buf.length > 0) yield format === 'csv' ? csvLines(buf) : ndjsonLines(buf);
-}
-
-/** A web ReadableStream over text chunks, pulling one chunk per read. */
-export function toWebStream(chunks: AsyncGenerator<string>): ReadableStream<Uint8Array> {
-	const enc = new TextEncoder();
-	return new ReadableStream<Uint8Array>({
-		async pull(controller) {
-			try {
-				const { value, done } = await chunks.next();
-				if (done) controller.close();
-				else controller.enqueue(enc.encode(value));
-			} catch (e) {
-				controller.error(e);
-			}
-		},
-		async cancel() {
-			await chunks.return(undefined);
-		}
-	});
 }
