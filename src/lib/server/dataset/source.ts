@@ -173,14 +173,18 @@ export async function datasetContext(db: Kysely<Database>, methodVersion?: strin
 	let step = steps.next();
 	while (!step.done) step = steps.next(await poolStats(db, version, step.value));
 	const { decisions, counts } = step.value;
-	const cells: [string, number, string, string, string, boolean][] = [];
+	// Published cells by `county|fy|practice` → [level, region, show HUC-8, practice name]; suppressed cells are absent.
+	const names = new Map((await db.selectFrom('practices').select(['code', 'name']).execute()).map((p) => [p.code, p.name]));
+	const cells: Record<string, [string, string, boolean, string]> = {};
 	for (const [key, d] of decisions) {
-		if (!d) continue; // suppressed: no row of the cell is published
+		if (!d) continue;
 		const [, county, fy, practice] = key.split('|');
-		cells.push([county, Number(fy), practice, d.level, d.region, d.showHuc8]);
+		cells[`${county}|${fy}|${practice}`] = [d.level, d.region, d.showHuc8, names.get(practice) ?? practice];
 	}
-	const programs = await sql<{ p: string }>`select distinct funding_program as p from records where funding_program is not null`.execute(db);
-	const funding = programs.rows.map((r) => [r.p, fundingCategory(r.p)]);
+	const programs = await sql<{ p: string }>`select distinct funding_program as p from records where funding_program is not null`.execute(
+		db
+	);
+	const funding = Object.fromEntries(programs.rows.map((r) => [r.p, fundingCategory(r.p)]));
 	const pads = await hmacPads(db);
 	const session = { cells: JSON.stringify(cells), funding: JSON.stringify(funding), ...pads };
 	const ctx: DatasetContext = { methodVersion: version, k, dominance, decisions, counts, session };
@@ -204,13 +208,14 @@ export const kyselyExec =
 /**
  * Hands the context to this transaction's dataset queries as transaction-local settings (so COPY, which
  * takes no parameters, reads them too; the pseudonym key never appears in a statement's text). Floats are
- * written in their shortest exact form, as JavaScript writes them.
+ * written in their shortest exact form, as JavaScript writes them; JIT compilation is off (it cost seconds
+ * per export and bought nothing for these expressions).
  */
 export async function prepare(exec: DatasetExec, ctx: DatasetContext): Promise<void> {
 	await exec(
 		`select set_config('runnel.dataset_cells', $1, true), set_config('runnel.dataset_funding', $2, true),
 			set_config('runnel.dataset_ipad', $3, true), set_config('runnel.dataset_opad', $4, true),
-			set_config('extra_float_digits', '1', true)`,
+			set_config('extra_float_digits', '1', true), set_config('jit', 'off', true)`,
 		[ctx.session.cells, ctx.session.funding, ctx.session.ipad, ctx.session.opad]
 	);
 }
@@ -226,6 +231,17 @@ function int(v: number): string {
 	return String(v);
 }
 
+/**
+ * The prepared settings as uncorrelated scalar subqueries: PostgreSQL evaluates each once per statement (an
+ * InitPlan) and hands every row the same value, where a joined one-row CTE would be copied for every row.
+ */
+const SETTING = {
+	cells: `(select current_setting('runnel.dataset_cells')::jsonb)`,
+	funding: `(select current_setting('runnel.dataset_funding')::jsonb)`,
+	ipad: `(select decode(current_setting('runnel.dataset_ipad'), 'hex'))`,
+	opad: `(select decode(current_setting('runnel.dataset_opad'), 'hex'))`
+};
+
 /** JavaScript's Math.round (halves up, toward +∞) on a float8 expression. */
 const jsRound = (x: string) => `(floor(${x}) + case when (${x}) - floor(${x}) >= 0.5 then 1 else 0 end)`;
 /** `round1` of toRow: Math.round(x * 10) / 10 in float8. */
@@ -234,81 +250,93 @@ const round1 = (x: string) => `(${jsRound(`(${x}) * 10`)} / 10)`;
 /** The SQL expression of each published column (toRow in src/lib/domain/anonymise.ts, in SQL). */
 function columnSql(ctx: DatasetContext): Record<(typeof DATASET_COLUMNS)[number], string> {
 	return {
-		pid: `encode(sha256(k.opad || sha256(k.ipad || convert_to(e.record_id::text, 'UTF8'))), 'hex')`,
-		practice_code: 'e.practice_code',
-		practice_name: 'p.name',
-		area_level: 'c.level',
-		county_fips: `case when c.level = 'county' then e.county_fips end`,
-		region: `case when c.level = 'region' then c.region end`,
-		state_fips: 'substr(e.county_fips, 1, 2)',
-		huc8: `case when c.level = 'county' and c.show_huc8 and e.huc8 ~ '^[0-9]{8}$' then e.huc8 end`,
-		install_year: 'extract(year from r.installed_on)::int',
-		install_month: 'extract(month from r.installed_on)::int',
-		fy_installed: 'e.state_fy_installed',
-		fy_in_service_first: 'e.state_fy_first',
-		fy_in_service_last: 'e.state_fy_last',
-		credited_acres: 'a.acres',
-		n_lb_mean: round1('e.n_lb_mean::float8 * a.scale'),
-		n_lb_low: round1('e.n_lb_low::float8 * a.scale'),
-		n_lb_high: round1('e.n_lb_high::float8 * a.scale'),
-		p_lb_mean: round1('e.p_lb_mean::float8 * a.scale'),
-		p_lb_low: round1('e.p_lb_low::float8 * a.scale'),
-		p_lb_high: round1('e.p_lb_high::float8 * a.scale'),
+		pid: `encode(sha256(${SETTING.opad} || sha256(${SETTING.ipad} || convert_to(s.record_id::text, 'UTF8'))), 'hex')`,
+		practice_code: 's.practice_code',
+		practice_name: 's.practice_name',
+		area_level: 's.level',
+		county_fips: `case when s.level = 'county' then s.county_fips end`,
+		region: `case when s.level = 'region' then s.region end`,
+		state_fips: 'substr(s.county_fips, 1, 2)',
+		huc8: `case when s.level = 'county' and s.show_huc8 and s.huc8 ~ '^[0-9]{8}$' then s.huc8 end`,
+		install_year: `date_part('year', s.installed_on)::int`,
+		install_month: `date_part('month', s.installed_on)::int`,
+		fy_installed: 's.state_fy_installed',
+		fy_in_service_first: 's.state_fy_first',
+		fy_in_service_last: 's.state_fy_last',
+		credited_acres: 's.acres',
+		n_lb_mean: round1('s.n_lb_mean * s.scale'),
+		n_lb_low: round1('s.n_lb_low * s.scale'),
+		n_lb_high: round1('s.n_lb_high * s.scale'),
+		p_lb_mean: round1('s.p_lb_mean * s.scale'),
+		p_lb_low: round1('s.p_lb_low * s.scale'),
+		p_lb_high: round1('s.p_lb_high * s.scale'),
 		method_version: lit(ctx.methodVersion),
-		funding_category: `case when r.funding_program is null then 'not_reported' else f.category end`
+		funding_category: `case when s.funding_program is null then 'not_reported' else ${SETTING.funding} ->> s.funding_program end`
 	};
 }
 
 /**
- * The published rows of the filtered dataset in record order (after `afterId`, at most `limit`), as one
- * SELECT with every value inlined as a literal (COPY takes no parameters). With `withId`, a last column
- * `record_id` gives the keyset position (never published).
+ * The dataset's rows in record order as one SELECT, every value inlined as a literal (COPY takes no
+ * parameters). The rows are cut from record_estimates by its (method_version, record_id) index first, so a
+ * batch costs the same however far into the dataset it is, and the only join is to the record itself (the
+ * cells, practice names and funding categories are looked up in the prepared settings). Without `limit`
+ * only published rows come back; with it, every row of the cut does, with `record_id` (the keyset position)
+ * and `keep` (false: not part of the dataset, or in a suppressed cell), so pages advance past left-out rows.
  */
 export function publishedSelect(
 	ctx: DatasetContext,
 	filter: DatasetFilter,
-	opts: { afterId?: string | null; limit?: number; withId?: boolean } = {}
+	opts: { afterId?: string | null; limit?: number } = {}
 ): string {
-	const where = [`e.method_version = ${lit(ctx.methodVersion)}`, `(r.status = 'installed' or e.state_fy_first is not null)`];
+	const where = [`method_version = ${lit(ctx.methodVersion)}`];
 	if (opts.afterId != null) {
 		if (!/^\d+$/.test(opts.afterId)) throw new RangeError(`not a record id: ${opts.afterId}`);
-		where.push(`e.record_id > ${opts.afterId}`);
+		where.push(`record_id > ${opts.afterId}`);
 	}
-	if (filter.practice) where.push(`e.practice_code = ${lit(filter.practice)}`);
-	if (filter.county) where.push(`e.county_fips = ${lit(filter.county)} and c.level = 'county'`);
-	if (filter.fy != null) where.push(`e.state_fy_first <= ${int(filter.fyTo ?? filter.fy)} and e.state_fy_last >= ${int(filter.fy)}`);
+	if (filter.practice) where.push(`practice_code = ${lit(filter.practice)}`);
+	if (filter.county) where.push(`county_fips = ${lit(filter.county)}`);
+	if (filter.fy != null) where.push(`state_fy_first <= ${int(filter.fyTo ?? filter.fy)} and state_fy_last >= ${int(filter.fy)}`);
+	const keep = `(s.status = 'installed' or s.state_fy_first is not null) and s.level is not null${filter.county ? ` and s.level = 'county'` : ''}`;
 	const columns = columnSql(ctx);
 	const select = DATASET_COLUMNS.map((c) => `${columns[c]} as ${c}`);
-	if (opts.withId) select.push('e.record_id::text as record_id');
-	return `with c as materialized (
-			select j->>0 as county_fips, (j->>1)::int as fy, j->>2 as practice_code, j->>3 as level, j->>4 as region, (j->>5)::boolean as show_huc8
-			from json_array_elements(current_setting('runnel.dataset_cells')::json) as j
-		), f as materialized (
-			select j->>0 as program, j->>1 as category from json_array_elements(current_setting('runnel.dataset_funding')::json) as j
-		), k as materialized (
-			select decode(current_setting('runnel.dataset_ipad'), 'hex') as ipad, decode(current_setting('runnel.dataset_opad'), 'hex') as opad
-		)
-		select ${select.join(',\n\t\t\t')}
-		from record_estimates e
-			join records r on r.id = e.record_id
-			join practices p on p.code = e.practice_code
-			join c on c.county_fips = e.county_fips and c.fy = e.state_fy_installed and c.practice_code = e.practice_code
-			left join f on f.program = r.funding_program
-			cross join k
-			cross join lateral (select coalesce(e.credited_acres::float8, 0) as exact) x
-			cross join lateral (
-				select r2.acres, case when x.exact > 0 then r2.acres / x.exact else 0 end as scale
-				from (select case when not (x.exact > 0) then 0::float8
-					when ${jsRound('x.exact')} < ${ROUND_TO_5_FROM} then ${jsRound('x.exact')}
-					else ${jsRound('x.exact / 5')} * 5 end as acres) r2
-			) a
-		where ${where.join(' and ')}
-		order by e.record_id${opts.limit != null ? ` limit ${int(opts.limit)}` : ''}`;
+	if (opts.limit != null) select.push('s.record_id::text as record_id', `coalesce(${keep}, false) as keep`);
+	// Each layer is fenced (offset 0) so PostgreSQL computes its values once a row instead of copying the
+	// expressions into every use above; each keeps the record order, so no layer sorts.
+	return `select ${select.join(',\n\t\t\t')}
+		from (
+			select s2.*, case when s2.exact > 0 then s2.acres / s2.exact else 0 end as scale
+			from (
+				select s1.*, s1.d ->> 0 as level, s1.d ->> 1 as region, (s1.d ->> 2)::boolean as show_huc8, s1.d ->> 3 as practice_name,
+					case when not (s1.exact > 0) then 0::float8
+					when ${jsRound('s1.exact')} < ${ROUND_TO_5_FROM} then ${jsRound('s1.exact')}
+					else ${jsRound('s1.exact / 5')} * 5 end as acres
+				from (
+					select e.record_id, e.practice_code, e.county_fips, e.huc8, e.state_fy_installed, e.state_fy_first, e.state_fy_last,
+						e.n_lb_mean::float8 as n_lb_mean, e.n_lb_low::float8 as n_lb_low, e.n_lb_high::float8 as n_lb_high,
+						e.p_lb_mean::float8 as p_lb_mean, e.p_lb_low::float8 as p_lb_low, e.p_lb_high::float8 as p_lb_high,
+						coalesce(e.credited_acres::float8, 0) as exact, r.installed_on, r.status, r.funding_program,
+						${SETTING.cells} -> (e.county_fips || '|' || e.state_fy_installed || '|' || e.practice_code) as d
+					from (
+						select * from record_estimates where ${where.join(' and ')}
+						order by record_id${opts.limit != null ? ` limit ${int(opts.limit)}` : ''}
+					) as e
+						join records r on r.id = e.record_id
+					order by e.record_id offset 0
+				) as s1
+				order by s1.record_id offset 0
+			) as s2
+			order by s2.record_id offset 0
+		) as s
+		${opts.limit != null ? '' : `where ${keep}`}
+		order by s.record_id`;
 }
 
-type PublishedRow = DatasetRow & { record_id?: string };
+type PublishedRow = DatasetRow & { record_id?: string; keep?: boolean };
 
-/** One page of published rows after `afterId`, with the position to continue from (null when there is no more). */
+/**
+ * Up to `limit` published rows after `afterId`, with the position to continue from (null when there is no
+ * more). Left-out rows are skipped, so a page may read further than `limit` source rows to fill itself.
+ */
 export async function datasetPage(
 	exec: DatasetExec,
 	ctx: DatasetContext,
@@ -316,9 +344,20 @@ export async function datasetPage(
 	afterId: string | null,
 	limit: number
 ): Promise<{ rows: DatasetRow[]; last: string | null }> {
-	const rows = await exec<PublishedRow>(publishedSelect(ctx, filter, { afterId, limit, withId: true }));
-	const last = rows.length === limit ? rows[rows.length - 1].record_id! : null;
-	for (const r of rows) delete r.record_id;
+	const rows: DatasetRow[] = [];
+	let last = afterId;
+	while (rows.length < limit) {
+		const want = limit - rows.length;
+		const cut = await exec<PublishedRow>(publishedSelect(ctx, filter, { afterId: last, limit: want }));
+		for (const r of cut) {
+			last = r.record_id!;
+			if (!r.keep) continue;
+			delete r.record_id;
+			delete r.keep;
+			rows.push(r);
+		}
+		if (cut.length < want) return { rows, last: null };
+	}
 	return { rows, last };
 }
 
@@ -326,7 +365,12 @@ export async function datasetPage(
  * Every published row of the filtered dataset, in batches (memory stays flat however many rows). `exec` runs
  * on one connection inside a transaction the caller opened; `prepare` has been called on it.
  */
-export async function* datasetRows(exec: DatasetExec, ctx: DatasetContext, filter: DatasetFilter = {}, batch = 5000): AsyncGenerator<DatasetRow> {
+export async function* datasetRows(
+	exec: DatasetExec,
+	ctx: DatasetContext,
+	filter: DatasetFilter = {},
+	batch = 5000
+): AsyncGenerator<DatasetRow> {
 	let after: string | null = null;
 	do {
 		const page: { rows: DatasetRow[]; last: string | null } = await datasetPage(exec, ctx, filter, after, batch);
@@ -374,7 +418,10 @@ function webStream(source: AsyncIterator<Uint8Array | string>, end: (error?: unk
 				if (done) {
 					await end();
 					controller.close();
-				} else controller.enqueue(typeof value === 'string' ? enc.encode(value) : new Uint8Array(value));
+				} else
+					controller.enqueue(
+						typeof value === 'string' ? enc.encode(value) : new Uint8Array(value.buffer, value.byteOffset, value.byteLength)
+					);
 			} catch (e) {
 				await end(e);
 				controller.error(e);
@@ -387,11 +434,27 @@ function webStream(source: AsyncIterator<Uint8Array | string>, end: (error?: unk
 	});
 }
 
+/** COPY yields one chunk per row; hand the response about 64 KB at a time instead. */
+async function* coalesce(source: AsyncIterable<Buffer>, size = 64 * 1024): AsyncGenerator<Buffer> {
+	let parts: Buffer[] = [];
+	let length = 0;
+	for await (const chunk of source) {
+		parts.push(chunk);
+		length += chunk.length;
+		if (length >= size) {
+			yield Buffer.concat(parts, length);
+			parts = [];
+			length = 0;
+		}
+	}
+	if (length > 0) yield Buffer.concat(parts, length);
+}
+
 /** The filtered dataset as CSV with a header row: PostgreSQL's COPY of the published rows, streamed. */
 export async function datasetCsvStream(ctx: DatasetContext, filter: DatasetFilter): Promise<ReadableStream<Uint8Array>> {
 	const { client, end } = await streamingSession(ctx);
 	const copy = client.query(copyTo(`copy (${publishedSelect(ctx, filter)}) to stdout with (format csv, header)`));
-	return webStream((copy as unknown as Readable)[Symbol.asyncIterator](), end, () => copy.destroy());
+	return webStream(coalesce(copy as unknown as Readable), end, () => copy.destroy());
 }
 
 /** The filtered dataset as NDJSON, one published row a line, read in keyset batches. */
