@@ -21,6 +21,7 @@ export interface TestRecord {
 	huc12?: string | null;
 	cost_total_usd?: number | null;
 	cost_share_usd?: number | null;
+	funding_program?: string | null;
 }
 
 export async function createDistrict(
@@ -92,7 +93,7 @@ function rowOf(districtId: number, r: TestRecord, version: number) {
 		huc12: r.huc12 ?? null,
 		cost_total_usd: r.cost_total_usd ?? null,
 		cost_share_usd: r.cost_share_usd ?? null,
-		funding_program: null,
+		funding_program: r.funding_program ?? null,
 		data: JSON.stringify(data),
 		content_hash: createHash('sha256').update(JSON.stringify(data)).digest('hex')
 	};

@@ -203,20 +203,39 @@ export interface CellContribution {
 
 type OpAcres = Map<string, number>;
 
-/** Distinct operations and whether one operation holds more than `dominance` of the acres. */
-export function cellStats(ops: OpAcres, dominance: number): { operations: number; dominated: boolean } {
-	let total = 0;
-	let top = 0;
-	for (const a of ops.values()) {
-		total += a;
-		top = Math.max(top, a);
-	}
-	return { operations: ops.size, dominated: total > 0 && ops.size > 1 && top / total > dominance };
+/** What the rule needs of a group of records: distinct operations, total acres and the largest operation's acres. */
+export interface OpStats {
+	operations: number;
+	acres: number;
+	/** The acres of the operation holding the most acres in the group. */
+	top_acres: number;
 }
 
-function passes(ops: OpAcres, k: number, dominance: number): boolean {
-	const s = cellStats(ops, dominance);
-	return s.operations >= k && !s.dominated;
+/** OpStats of operations → acres. */
+export function opStatsOf(ops: OpAcres): OpStats {
+	let acres = 0;
+	let top = 0;
+	for (const a of ops.values()) {
+		acres += a;
+		top = Math.max(top, a);
+	}
+	return { operations: ops.size, acres, top_acres: top };
+}
+
+/** Whether one operation holds more than `dominance` of the group's acres. */
+export function isDominated(s: OpStats, dominance: number): boolean {
+	return s.acres > 0 && s.operations > 1 && s.top_acres / s.acres > dominance;
+}
+
+/** The rule for one group: at least k operations and no dominating operation. */
+export function passesRule(s: OpStats, k: number, dominance: number): boolean {
+	return s.operations >= k && !isDominated(s, dominance);
+}
+
+/** Distinct operations and whether one operation holds more than `dominance` of the acres. */
+export function cellStats(ops: OpAcres, dominance: number): { operations: number; dominated: boolean } {
+	const s = opStatsOf(ops);
+	return { operations: s.operations, dominated: isDominated(s, dominance) };
 }
 
 function addOp(into: OpAcres, op: string, acres: number): void {
@@ -240,17 +259,36 @@ function groupBy<T>(items: Iterable<T>, key: (t: T) => string): Map<string, T[]>
 	return m;
 }
 
-export type CellDecision = { level: AreaLevel; showHuc8: boolean } | null;
+/**
+ * How a base cell is published: its area level, whether its county rows show HUC-8, and the cell's region
+ * (the region a region-level row names: the pool's, never a record's own district's). Null = suppressed.
+ */
+export type CellDecision = { level: AreaLevel; showHuc8: boolean; region: string } | null;
 export type CellLocator = Pick<SourceRecord, 'method_version' | 'county_fips' | 'fy_installed' | 'practice_code'>;
 
 export const baseCellKey = (c: CellLocator): string => `${c.method_version}|${c.county_fips}|${c.fy_installed}|${c.practice_code}`;
 
-interface Cell {
-	key: string;
-	first: CellContribution;
-	ops: OpAcres;
-	huc: Map<string, OpAcres>;
+/**
+ * One county × FY × practice cell, already aggregated (the server computes these in SQL, so no list of
+ * records or operations is ever held): its operation statistics, its record count and the statistics of
+ * each of its HUC-8 groups (the group with no HUC-8 included).
+ */
+export interface CellAggregate extends CellLocator, OpStats {
+	region: string;
+	state_fips: string;
 	records: number;
+	huc8_groups: readonly OpStats[];
+}
+
+/**
+ * A pool of small cells the rule asks about: the small cells of one method, FY and practice in one region
+ * (level 'region'), or those left over in one state (level 'state'). The answer is the OpStats of the union
+ * of the member cells' operations (an operation in two member cells counts once, with its acres summed).
+ */
+export interface CellPool {
+	key: string;
+	level: 'region' | 'state';
+	cells: readonly CellAggregate[];
 }
 
 function checkOptions(opts: { k?: number; dominance?: number }): { k: number; dominance: number } {
@@ -262,13 +300,15 @@ function checkOptions(opts: { k?: number; dominance?: number }): { k: number; do
 }
 
 /**
- * The small-cell rule on cell contributions (the server feeds it an aggregate query, so the records
- * themselves can be streamed afterwards). Returns each base cell's decision (null = suppressed) and counts.
+ * The small-cell rule on per-cell aggregates, in steps: it yields the pools it needs statistics for (first
+ * the region pools, then the state pools of what is left) and is resumed with a map pool key → OpStats.
+ * Returns each base cell's decision (null = suppressed) and the counts. The caller supplies the pool
+ * statistics from memory (`decideCells`) or from the database, so the rule itself lives only here.
  */
-export function decideCells(
-	contributions: Iterable<CellContribution>,
+export function* decideCellAggregates(
+	cells: Iterable<CellAggregate>,
 	opts: { k?: number; dominance?: number } = {}
-): { decisions: Map<string, CellDecision>; counts: AnonymiseCounts } {
+): Generator<CellPool[], { decisions: Map<string, CellDecision>; counts: AnonymiseCounts }, Map<string, OpStats>> {
 	const { k, dominance } = checkOptions(opts);
 	const counts: AnonymiseCounts = {
 		k,
@@ -283,56 +323,112 @@ export function decideCells(
 		dominated: 0,
 		huc8_withheld: 0
 	};
+	const decisions = new Map<string, CellDecision>();
+	const small: CellAggregate[] = [];
+	for (const cell of cells) {
+		counts.cells++;
+		counts.records += cell.records;
+		if (passesRule(cell, k, dominance)) {
+			counts.published_as_county++;
+			const showHuc8 = cell.huc8_groups.every((g) => passesRule(g, k, dominance));
+			if (!showHuc8) counts.huc8_withheld++;
+			decisions.set(baseCellKey(cell), { level: 'county', showHuc8, region: cell.region });
+		} else {
+			if (cell.operations >= k) counts.dominated++;
+			small.push(cell);
+		}
+	}
+	// Pool the small cells of one method, FY and practice: by region first, then what is left across the state.
+	const groupKey = (c: CellAggregate) => `${c.method_version}|${c.fy_installed}|${c.practice_code}`;
+	const regionPools: CellPool[] = [];
+	for (const [g, group] of groupBy(small, groupKey)) {
+		for (const [region, inRegion] of groupBy(group, (c) => c.region)) {
+			regionPools.push({ key: `${g}|region:${region}`, level: 'region', cells: inRegion });
+		}
+	}
+	const regionStats = regionPools.length > 0 ? yield regionPools : new Map<string, OpStats>();
+	const leftover: CellAggregate[] = [];
+	for (const pool of regionPools) {
+		const s = regionStats.get(pool.key);
+		if (!s) throw new Error(`no statistics for pool ${pool.key}`);
+		if (passesRule(s, k, dominance)) {
+			counts.generalised_to_region += pool.cells.length;
+			for (const c of pool.cells) decisions.set(baseCellKey(c), { level: 'region', showHuc8: false, region: c.region });
+		} else leftover.push(...pool.cells);
+	}
+	const statePools: CellPool[] = [];
+	for (const [g, group] of groupBy(leftover, groupKey)) {
+		for (const [state, inState] of groupBy(group, (c) => c.state_fips)) {
+			statePools.push({ key: `${g}|state:${state}`, level: 'state', cells: inState });
+		}
+	}
+	const stateStats = statePools.length > 0 ? yield statePools : new Map<string, OpStats>();
+	for (const pool of statePools) {
+		const s = stateStats.get(pool.key);
+		if (!s) throw new Error(`no statistics for pool ${pool.key}`);
+		if (passesRule(s, k, dominance)) {
+			counts.generalised_to_state += pool.cells.length;
+			for (const c of pool.cells) decisions.set(baseCellKey(c), { level: 'state', showHuc8: false, region: c.region });
+		} else {
+			counts.suppressed += pool.cells.length;
+			for (const c of pool.cells) {
+				counts.suppressed_records += c.records;
+				decisions.set(baseCellKey(c), null);
+			}
+		}
+	}
+	return { decisions, counts };
+}
+
+interface Cell {
+	key: string;
+	first: CellContribution;
+	/** The cell's region: the first in sort order of its records' district regions (a county shared by districts of two regions has one). */
+	region: string;
+	ops: OpAcres;
+	huc: Map<string, OpAcres>;
+	records: number;
+}
+
+/**
+ * The small-cell rule on cell contributions held in memory (tests, small sets): aggregates them per cell and
+ * runs `decideCellAggregates`, answering its pool questions from the contributions.
+ */
+export function decideCells(
+	contributions: Iterable<CellContribution>,
+	opts: { k?: number; dominance?: number } = {}
+): { decisions: Map<string, CellDecision>; counts: AnonymiseCounts } {
 	const cells = new Map<string, Cell>();
 	for (const c of contributions) {
 		const key = baseCellKey(c);
 		let cell = cells.get(key);
-		if (!cell) cells.set(key, (cell = { key, first: c, ops: new Map(), huc: new Map(), records: 0 }));
+		if (!cell) cells.set(key, (cell = { key, first: c, region: c.region, ops: new Map(), huc: new Map(), records: 0 }));
+		if (c.region < cell.region) cell.region = c.region;
 		addOp(cell.ops, c.operation_key, c.acres);
 		const h = c.huc8 ?? '';
 		if (!cell.huc.has(h)) cell.huc.set(h, new Map());
 		addOp(cell.huc.get(h)!, c.operation_key, c.acres);
 		cell.records += c.records ?? 1;
 	}
-	counts.cells = cells.size;
-	const decisions = new Map<string, CellDecision>();
-	const small: Cell[] = [];
-	for (const cell of cells.values()) {
-		counts.records += cell.records;
-		const s = cellStats(cell.ops, dominance);
-		if (s.operations >= k && !s.dominated) {
-			counts.published_as_county++;
-			const showHuc8 = [...cell.huc.values()].every((g) => passes(g, k, dominance));
-			if (!showHuc8) counts.huc8_withheld++;
-			decisions.set(cell.key, { level: 'county', showHuc8 });
-		} else {
-			if (s.operations >= k) counts.dominated++;
-			small.push(cell);
-		}
+	const aggregates: CellAggregate[] = [...cells.values()].map((c) => ({
+		method_version: c.first.method_version,
+		county_fips: c.first.county_fips,
+		fy_installed: c.first.fy_installed,
+		practice_code: c.first.practice_code,
+		region: c.region,
+		state_fips: c.first.state_fips,
+		records: c.records,
+		...opStatsOf(c.ops),
+		huc8_groups: [...c.huc.values()].map(opStatsOf)
+	}));
+	const steps = decideCellAggregates(aggregates, opts);
+	let step = steps.next();
+	while (!step.done) {
+		const stats = new Map<string, OpStats>();
+		for (const pool of step.value) stats.set(pool.key, opStatsOf(mergeOps(pool.cells.map((c) => cells.get(baseCellKey(c))!))));
+		step = steps.next(stats);
 	}
-	// Pool the small cells of one method, FY and practice: by region first, then what is left across the state.
-	for (const [, group] of groupBy(small, (c) => `${c.first.method_version}|${c.first.fy_installed}|${c.first.practice_code}`)) {
-		const leftover: Cell[] = [];
-		for (const [, inRegion] of groupBy(group, (c) => c.first.region)) {
-			if (passes(mergeOps(inRegion), k, dominance)) {
-				counts.generalised_to_region += inRegion.length;
-				for (const c of inRegion) decisions.set(c.key, { level: 'region', showHuc8: false });
-			} else leftover.push(...inRegion);
-		}
-		for (const [, inState] of groupBy(leftover, (c) => c.first.state_fips)) {
-			if (passes(mergeOps(inState), k, dominance)) {
-				counts.generalised_to_state += inState.length;
-				for (const c of inState) decisions.set(c.key, { level: 'state', showHuc8: false });
-			} else {
-				counts.suppressed += inState.length;
-				for (const c of inState) {
-					counts.suppressed_records += c.records;
-					decisions.set(c.key, null);
-				}
-			}
-		}
-	}
-	return { decisions, counts };
+	return step.value;
 }
 
 export function contributionOf(r: SourceRecord): CellContribution {
@@ -349,8 +445,9 @@ export function contributionOf(r: SourceRecord): CellContribution {
 	};
 }
 
-/** One record → its published row at the given area level (HUC-8 decided by the caller). */
-export function toRow(r: SourceRecord, level: AreaLevel, huc8: string | null, pseudonym: (id: string) => string): DatasetRow {
+/** One record → its published row as its cell's decision says (area level, HUC-8 shown or not, the cell's region). */
+export function toRow(r: SourceRecord, d: NonNullable<CellDecision>, pseudonym: (id: string) => string): DatasetRow {
+	const level = d.level;
 	const { year, month } = yearMonth(r.installed_on);
 	const acres = roundAcres(r.credited_acres);
 	const exact = r.credited_acres ?? 0;
@@ -361,9 +458,9 @@ export function toRow(r: SourceRecord, level: AreaLevel, huc8: string | null, ps
 		practice_name: r.practice_name,
 		area_level: level,
 		county_fips: level === 'county' ? r.county_fips : null,
-		region: level === 'region' ? r.region : null,
+		region: level === 'region' ? d.region : null,
 		state_fips: r.state_fips,
-		huc8: level === 'county' ? huc8 : null,
+		huc8: level === 'county' && d.showHuc8 ? huc8Of(r.huc12) : null,
 		install_year: year,
 		install_month: month,
 		fy_installed: r.fy_installed,
@@ -398,7 +495,7 @@ export function anonymise(records: readonly SourceRecord[], opts: AnonymiseOptio
 	const rows: DatasetRow[] = [];
 	for (const r of records) {
 		const d = decisions.get(baseCellKey(r));
-		if (d) rows.push(toRow(r, d.level, d.showHuc8 ? huc8Of(r.huc12) : null, opts.pseudonym));
+		if (d) rows.push(toRow(r, d, opts.pseudonym));
 	}
 	return { rows, counts };
 }

@@ -1,5 +1,5 @@
-// Dataset rows as CSV or NDJSON byte streams, pulled from an async row source (backpressure: the next
-// batch is read only when the consumer wants more).
+// Dataset rows as CSV or NDJSON text for release files (the live CSV is PostgreSQL's COPY of the same rows;
+// tests/api/dataset-sql-rows.test.ts holds the two byte-equal).
 import { stringify } from 'csv-stringify/sync';
 import { DATASET_COLUMNS, type DatasetRow } from '../../domain/anonymise';
 
@@ -10,32 +10,8 @@ export function csvHeader(): string {
 	return stringify([DATASET_COLUMNS as unknown as string[]]);
 }
 
-/** One CSV field (RFC 4180): quoted only when it holds a quote, comma or line break. */
-function csvField(v: string | number | null | undefined): string {
-	if (v == null) return '';
-	if (typeof v === 'number') return String(v);
-	return /[",\r\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v;
-}
-
-/**
- * Rows as CSV lines, the same bytes csv-stringify writes for these values (tests/unit/dataset-encode.test.ts
- * compares them), written by hand because this is the hot loop of every export (about 10× faster).
- */
+/** Rows as CSV lines (RFC 4180, csv-stringify; null → empty field). */
 export function csvLines(rows: DatasetRow[]): string {
-	let out = '';
-	for (const r of rows) {
-		let line = '';
-		for (let i = 0; i < DATASET_COLUMNS.length; i++) {
-			if (i > 0) line += ',';
-			line += csvField(r[DATASET_COLUMNS[i]]);
-		}
-		out += line + '\n';
-	}
-	return out;
-}
-
-/** csv-stringify's rendering of the same rows (the reference the hand-written encoder is tested against). */
-export function csvLinesReference(rows: DatasetRow[]): string {
 	return stringify(rows.map((r) => DATASET_COLUMNS.map((c) => r[c] ?? '')));
 }
 
@@ -43,37 +19,4 @@ export function ndjsonLines(rows: DatasetRow[]): string {
 	let out = '';
 	for (const r of rows) out += JSON.stringify(r) + '\n';
 	return out;
-}
-
-/** Rows → text chunks of about `chunk` rows each. */
-export async function* encodeRows(rows: AsyncIterable<DatasetRow>, format: 'csv' | 'ndjson', chunk = 1000): AsyncGenerator<string> {
-	if (format === 'csv') yield csvHeader();
-	let buf: DatasetRow[] = [];
-	for await (const r of rows) {
-		buf.push(r);
-		if (buf.length >= chunk) {
-			yield format === 'csv' ? csvLines(buf) : ndjsonLines(buf);
-			buf = [];
-		}
-	}
-	if (buf.length > 0) yield format === 'csv' ? csvLines(buf) : ndjsonLines(buf);
-}
-
-/** A web ReadableStream over text chunks, pulling one chunk per read. */
-export function toWebStream(chunks: AsyncGenerator<string>): ReadableStream<Uint8Array> {
-	const enc = new TextEncoder();
-	return new ReadableStream<Uint8Array>({
-		async pull(controller) {
-			try {
-				const { value, done } = await chunks.next();
-				if (done) controller.close();
-				else controller.enqueue(enc.encode(value));
-			} catch (e) {
-				controller.error(e);
-			}
-		},
-		async cancel() {
-			await chunks.return(undefined);
-		}
-	});
 }

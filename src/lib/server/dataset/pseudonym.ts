@@ -2,7 +2,7 @@
 // Stable across releases (same secret), unlinkable to the record without it. The secret comes from
 // RUNNEL_DATASET_SECRET; without it, one is generated on first use and kept in the settings table (never
 // served by any route). Changing the secret changes every pseudonym: treat it like a signing key.
-import { createHmac, randomBytes } from 'node:crypto';
+import { createHash, createHmac, randomBytes } from 'node:crypto';
 import type { Kysely } from 'kysely';
 import type { Database } from '../db/schema';
 
@@ -26,4 +26,19 @@ async function secret(db: Kysely<Database>): Promise<string> {
 export async function pseudonymiser(db: Kysely<Database>): Promise<(recordId: string) => string> {
 	const key = await secret(db);
 	return (recordId: string) => createHmac('sha256', key).update(String(recordId)).digest('hex');
+}
+
+/**
+ * The secret as the inner and outer HMAC-SHA-256 pads (RFC 2104, section 2: the key, hashed first when longer
+ * than the 64-byte block, zero-padded and XORed with 0x36 / 0x5c), hex. With them PostgreSQL computes the same
+ * pseudonym as `pseudonymiser` with its built-in sha256(): sha256(opad || sha256(ipad || id)).
+ */
+export async function hmacPads(db: Kysely<Database>): Promise<{ ipad: string; opad: string }> {
+	let key = Buffer.from(await secret(db), 'utf8');
+	if (key.length > 64) key = createHash('sha256').update(key).digest();
+	const block = Buffer.alloc(64);
+	key.copy(block);
+	const ipad = Buffer.from(block.map((b) => b ^ 0x36));
+	const opad = Buffer.from(block.map((b) => b ^ 0x5c));
+	return { ipad: ipad.toString('hex'), opad: opad.toString('hex') };
 }

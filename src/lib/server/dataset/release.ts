@@ -22,7 +22,7 @@ import { logger } from '../log';
 import { queueMail } from '../mail/queue';
 import { getObjectStore } from '../storage/object-store';
 import { csvHeader, csvLines, ndjsonLines } from './encode';
-import { datasetContext, datasetRows } from './source';
+import { datasetContext, datasetRows, kyselyExec, prepare } from './source';
 
 export const MANIFEST_TYP = 'runnel-manifest+jws';
 
@@ -139,6 +139,7 @@ export async function publishRelease(
 			.setIsolationLevel('repeatable read')
 			.execute(async (trx) => {
 				const ctx = await datasetContext(trx);
+				await prepare(kyselyExec(trx), ctx);
 				const csv = createWriteStream(path.join(dir, 'dataset.csv'));
 				const nd = createWriteStream(path.join(dir, 'dataset.ndjson'));
 				const wb = new ExcelJS.stream.xlsx.WorkbookWriter({
@@ -151,7 +152,7 @@ export async function publishRelease(
 				await write(csv, csvHeader());
 				let rowCount = 0;
 				let buf = [];
-				for await (const row of datasetRows(trx, ctx)) {
+				for await (const row of datasetRows(kyselyExec(trx), ctx)) {
 					rowCount++;
 					ws.addRow(row).commit();
 					buf.push(row);

@@ -1,23 +1,34 @@
-// Reading the research dataset from the database: cell contributions for the small-cell rule (one
-// aggregate query), then the records themselves in keyset batches so no export holds the whole result.
+// Reading the research dataset from the database: per-cell aggregates for the small-cell rule (computed in
+// SQL, a few thousand rows), then the published rows themselves, computed by PostgreSQL from those decisions
+// (the rule's outcome per cell, the funding categories and the pseudonym key are handed to the query as
+// transaction-local settings) and streamed: COPY for CSV, keyset batches for the rest, so no export holds
+// the whole result and the app does not decode and re-encode every row.
+// The published row is specified by `toRow` in src/lib/domain/anonymise.ts; `publishedSelect` below is its
+// SQL form, and tests/api/dataset-sql-rows.test.ts holds the two equal on random records.
 // Source: record_estimates under the active reduction method (state fiscal years), the record's install
 // date and funding program, the district's region and the practice name. Records count when installed
 // (not withdrawn) or when they were in service in some fiscal year.
-import { sql, type Kysely } from 'kysely';
+import { Readable } from 'node:stream';
+import { CompiledQuery, sql, type Kysely } from 'kysely';
+import type pg from 'pg';
+import { to as copyTo } from 'pg-copy-streams';
 import {
-	baseCellKey,
-	decideCells,
-	huc8Of,
-	toRow,
+	DATASET_COLUMNS,
+	ROUND_TO_5_FROM,
+	decideCellAggregates,
+	fundingCategory,
 	type AnonymiseCounts,
+	type CellAggregate,
 	type CellDecision,
+	type CellPool,
 	type DatasetRow,
-	type SourceRecord
+	type OpStats
 } from '../../domain/anonymise';
+import { getPool } from '../db';
 import type { Database } from '../db/schema';
 import { getActiveMethodVersion } from '../methods';
 import { readSettings, SETTING_KEYS, smallCellKOf } from '../rollups/settings';
-import { pseudonymiser } from './pseudonym';
+import { hmacPads } from './pseudonym';
 
 export const DOMINANCE_SETTING = 'dataset_dominance_share';
 
@@ -36,8 +47,11 @@ export interface DatasetContext {
 	dominance: number;
 	decisions: Map<string, CellDecision>;
 	counts: AnonymiseCounts;
-	pseudonym: (id: string) => string;
+	/** What every dataset query of this context reads as transaction-local settings (see `prepare`). */
+	session: Record<SessionSetting, string>;
 }
+
+type SessionSetting = 'cells' | 'funding' | 'ipad' | 'opad';
 
 const INCLUDED = sql`(r.status = 'installed' or e.state_fy_first is not null)`;
 
@@ -47,160 +61,424 @@ async function rules(db: Kysely<Database>): Promise<{ k: number; dominance: numb
 	return { k: smallCellKOf(s.get(SETTING_KEYS.smallCellK)), dominance: d > 0 && d <= 1 ? d : 0.6 };
 }
 
+interface StatsRow {
+	operations: number;
+	acres: string;
+	top_acres: string;
+}
+
+const opStats = (r: StatsRow): OpStats => ({ operations: r.operations, acres: Number(r.acres), top_acres: Number(r.top_acres) });
+
+/**
+ * Per-cell aggregates for the small-cell rule, computed in PostgreSQL: one row per county × FY × practice ×
+ * HUC-8 group and one per cell, never one per record or operation. An operation's acres in a cell (or a HUC-8
+ * group) are its records' credited acres summed (never below 0).
+ */
+async function cellAggregates(db: Kysely<Database>, version: string): Promise<CellAggregate[]> {
+	const res = await sql<
+		StatsRow & {
+			county_fips: string;
+			fy: number;
+			practice_code: string;
+			huc8: string | null;
+			is_cell: boolean;
+			region: string;
+			records: number;
+		}
+	>`
+		with ops as (
+			select e.county_fips, e.state_fy_installed as fy, e.practice_code, coalesce(e.huc8, '') as huc8, e.operation_key,
+				min(d.region collate "C") as region, greatest(sum(e.credited_acres), 0) as acres, count(*)::int as records
+			from record_estimates e join records r on r.id = e.record_id join districts d on d.id = e.district_id
+			where e.method_version = ${version} and ${INCLUDED}
+			group by 1, 2, 3, 4, 5
+		), cell_ops as (
+			select county_fips, fy, practice_code, operation_key, min(region collate "C") as region, sum(acres) as acres, sum(records) as records
+			from ops group by 1, 2, 3, 4
+		)
+		select county_fips, fy, practice_code, null as huc8, true as is_cell, min(region collate "C") as region, sum(records)::int as records,
+			count(*)::int as operations, sum(acres)::text as acres, max(acres)::text as top_acres
+		from cell_ops group by 1, 2, 3
+		union all
+		select county_fips, fy, practice_code, huc8, false, '', 0, count(*)::int, sum(acres)::text, max(acres)::text
+		from ops group by 1, 2, 3, 4
+		order by 1, 2, 3, 5 desc`.execute(db);
+	const cells: CellAggregate[] = [];
+	let groups: OpStats[] = [];
+	for (const r of res.rows) {
+		if (r.is_cell) {
+			groups = [];
+			cells.push({
+				method_version: version,
+				county_fips: r.county_fips,
+				region: r.region,
+				state_fips: r.county_fips.slice(0, 2),
+				fy_installed: r.fy,
+				practice_code: r.practice_code,
+				records: r.records,
+				...opStats(r),
+				huc8_groups: groups
+			});
+		} else groups.push(opStats(r));
+	}
+	return cells;
+}
+
+/** The rule's pool questions answered in PostgreSQL: the union of the member cells' operations per pool. */
+async function poolStats(db: Kysely<Database>, version: string, pools: readonly CellPool[]): Promise<Map<string, OpStats>> {
+	const county: string[] = [];
+	const fy: number[] = [];
+	const practice: string[] = [];
+	const key: string[] = [];
+	for (const p of pools) {
+		for (const c of p.cells) {
+			county.push(c.county_fips);
+			fy.push(c.fy_installed);
+			practice.push(c.practice_code);
+			key.push(p.key);
+		}
+	}
+	const res = await sql<StatsRow & { pool: string }>`
+		with members as (
+			select * from unnest(${county}::text[], ${fy}::int[], ${practice}::text[], ${key}::text[]) as m(county_fips, fy, practice_code, pool)
+		), ops as (
+			select m.pool, e.operation_key, greatest(sum(e.credited_acres), 0) as acres
+			from record_estimates e join records r on r.id = e.record_id
+				join members m on m.county_fips = e.county_fips and m.fy = e.state_fy_installed and m.practice_code = e.practice_code
+			where e.method_version = ${version} and ${INCLUDED}
+			group by m.pool, e.county_fips, e.state_fy_installed, e.practice_code, coalesce(e.huc8, ''), e.operation_key
+		)
+		select pool, count(*)::int as operations, sum(acres)::text as acres, max(acres)::text as top_acres
+		from (select pool, operation_key, sum(acres) as acres from ops group by 1, 2) as pool_ops
+		group by pool`.execute(db);
+	return new Map(res.rows.map((r) => [r.pool, opStats(r)]));
+}
+
 let cache: { stamp: string; ctx: DatasetContext } | null = null;
 
-/** The cell decisions for the whole dataset (never for a filtered part), cached until the estimates change. */
+/**
+ * The cell decisions for the whole dataset (never for a filtered part), cached until the estimates, the
+ * records or the rule's settings change.
+ */
 export async function datasetContext(db: Kysely<Database>, methodVersion?: string): Promise<DatasetContext> {
 	const version = methodVersion ?? (await getActiveMethodVersion(db));
 	const { k, dominance } = await rules(db);
 	const stampRow = await sql<{ stamp: string }>`
-		select coalesce(max(computed_at)::text, '') || '/' || count(*)::text as stamp
+		select coalesce(max(computed_at)::text, '') || '/' || count(*)::text
+			|| '/' || coalesce((select max(updated_at)::text from records), '') as stamp
 		from record_estimates where method_version = ${version}`.execute(db);
 	const stamp = `${version}|${k}|${dominance}|${stampRow.rows[0]?.stamp}`;
 	if (cache?.stamp === stamp) return cache.ctx;
-	const contributions = await sql<{
-		county_fips: string;
-		region: string;
-		fy: number;
-		practice_code: string;
-		huc8: string | null;
-		operation_key: string;
-		acres: string;
-		records: number;
-	}>`
-		select e.county_fips, d.region, e.state_fy_installed as fy, e.practice_code, e.huc8, e.operation_key,
-			sum(e.credited_acres)::text as acres, count(*)::int as records
-		from record_estimates e join records r on r.id = e.record_id join districts d on d.id = e.district_id
-		where e.method_version = ${version} and ${INCLUDED}
-		group by 1, 2, 3, 4, 5, 6`.execute(db);
-	const { decisions, counts } = decideCells(
-		contributions.rows.map((c) => ({
-			method_version: version,
-			county_fips: c.county_fips,
-			region: c.region,
-			state_fips: c.county_fips.slice(0, 2),
-			fy_installed: c.fy,
-			practice_code: c.practice_code,
-			huc8: c.huc8,
-			operation_key: c.operation_key,
-			acres: Number(c.acres),
-			records: c.records
-		})),
-		{ k, dominance }
+	const steps = decideCellAggregates(await cellAggregates(db, version), { k, dominance });
+	let step = steps.next();
+	while (!step.done) step = steps.next(await poolStats(db, version, step.value));
+	const { decisions, counts } = step.value;
+	// Published cells by `county|fy|practice` → [level, region, show HUC-8, practice name]; suppressed cells are absent.
+	const names = new Map((await db.selectFrom('practices').select(['code', 'name']).execute()).map((p) => [p.code, p.name]));
+	const cells: Record<string, [string, string, boolean, string]> = {};
+	for (const [key, d] of decisions) {
+		if (!d) continue;
+		const [, county, fy, practice] = key.split('|');
+		cells[`${county}|${fy}|${practice}`] = [d.level, d.region, d.showHuc8, names.get(practice) ?? practice];
+	}
+	const programs = await sql<{ p: string }>`select distinct funding_program as p from records where funding_program is not null`.execute(
+		db
 	);
-	const ctx: DatasetContext = { methodVersion: version, k, dominance, decisions, counts, pseudonym: await pseudonymiser(db) };
+	const funding = Object.fromEntries(programs.rows.map((r) => [r.p, fundingCategory(r.p)]));
+	const pads = await hmacPads(db);
+	const session = { cells: JSON.stringify(cells), funding: JSON.stringify(funding), ...pads };
+	const ctx: DatasetContext = { methodVersion: version, k, dominance, decisions, counts, session };
 	cache = { stamp, ctx };
 	return ctx;
 }
 
-interface SourceRow {
-	record_id: string;
-	/** Installed, or in service in some FY (else not part of the dataset). */
-	included: boolean;
-	practice_code: string;
-	practice_name: string;
-	county_fips: string;
-	region: string;
-	huc8: string | null;
-	installed_on: string;
-	fy_installed: number;
-	fy_first: number | null;
-	fy_last: number | null;
-	credited_acres: string;
-	n_lb_mean: string;
-	n_lb_low: string;
-	n_lb_high: string;
-	p_lb_mean: string;
-	p_lb_low: string;
-	p_lb_high: string;
-	funding_program: string | null;
+/** Runs one statement on a single connection (a pooled client, or a Kysely transaction). */
+export type DatasetExec = <R>(text: string, params?: unknown[]) => Promise<R[]>;
+
+export const clientExec =
+	(client: pg.PoolClient): DatasetExec =>
+	async <R>(text: string, params: unknown[] = []) =>
+		(await client.query(text, params)).rows as R[];
+
+export const kyselyExec =
+	(trx: Kysely<Database>): DatasetExec =>
+	async <R>(text: string, params: unknown[] = []) =>
+		(await trx.executeQuery<R>(CompiledQuery.raw(text, params))).rows;
+
+/**
+ * Hands the context to this transaction's dataset queries as transaction-local settings (so COPY, which
+ * takes no parameters, reads them too; the pseudonym key never appears in a statement's text). Floats are
+ * written in their shortest exact form, as JavaScript writes them; JIT compilation is off (it cost seconds
+ * per export and bought nothing for these expressions).
+ */
+export async function prepare(exec: DatasetExec, ctx: DatasetContext): Promise<void> {
+	await exec(
+		`select set_config('runnel.dataset_cells', $1, true), set_config('runnel.dataset_funding', $2, true),
+			set_config('runnel.dataset_ipad', $3, true), set_config('runnel.dataset_opad', $4, true),
+			set_config('extra_float_digits', '1', true), set_config('jit', 'off', true)`,
+		[ctx.session.cells, ctx.session.funding, ctx.session.ipad, ctx.session.opad]
+	);
+}
+
+/** A SQL string literal (standard_conforming_strings is on in every supported PostgreSQL). */
+function lit(v: string): string {
+	if (v.includes('\0')) throw new RangeError('a NUL character cannot be part of a query');
+	return `'${v.replace(/'/g, "''")}'`;
+}
+
+function int(v: number): string {
+	if (!Number.isSafeInteger(v)) throw new RangeError(`not a whole number: ${v}`);
+	return String(v);
 }
 
 /**
- * One batch of source rows after `afterId` (record id order), filtered. The batch is cut from
- * record_estimates by its (method_version, record_id) index first, so each batch costs the same however far
- * into the dataset it is; rows that are not part of the dataset come back with `included = false` (the
- * caller skips them but keeps their id as the position).
+ * The prepared settings as uncorrelated scalar subqueries: PostgreSQL evaluates each once per statement (an
+ * InitPlan) and hands every row the same value, where a joined one-row CTE would be copied for every row.
  */
-export async function sourceBatch(
-	db: Kysely<Database>,
+const SETTING = {
+	cells: `(select current_setting('runnel.dataset_cells')::jsonb)`,
+	funding: `(select current_setting('runnel.dataset_funding')::jsonb)`,
+	ipad: `(select decode(current_setting('runnel.dataset_ipad'), 'hex'))`,
+	opad: `(select decode(current_setting('runnel.dataset_opad'), 'hex'))`
+};
+
+/** JavaScript's Math.round (halves up, toward +∞) on a float8 expression. */
+const jsRound = (x: string) => `(floor(${x}) + case when (${x}) - floor(${x}) >= 0.5 then 1 else 0 end)`;
+/** `round1` of toRow: Math.round(x * 10) / 10 in float8. */
+const round1 = (x: string) => `(${jsRound(`(${x}) * 10`)} / 10)`;
+
+/** The SQL expression of each published column (toRow in src/lib/domain/anonymise.ts, in SQL). */
+function columnSql(ctx: DatasetContext): Record<(typeof DATASET_COLUMNS)[number], string> {
+	return {
+		pid: `encode(sha256(${SETTING.opad} || sha256(${SETTING.ipad} || convert_to(s.record_id::text, 'UTF8'))), 'hex')`,
+		practice_code: 's.practice_code',
+		practice_name: 's.practice_name',
+		area_level: 's.level',
+		county_fips: `case when s.level = 'county' then s.county_fips end`,
+		region: `case when s.level = 'region' then s.region end`,
+		state_fips: 'substr(s.county_fips, 1, 2)',
+		huc8: `case when s.level = 'county' and s.show_huc8 and s.huc8 ~ '^[0-9]{8}$' then s.huc8 end`,
+		install_year: `date_part('year', s.installed_on)::int`,
+		install_month: `date_part('month', s.installed_on)::int`,
+		fy_installed: 's.state_fy_installed',
+		fy_in_service_first: 's.state_fy_first',
+		fy_in_service_last: 's.state_fy_last',
+		credited_acres: 's.acres',
+		n_lb_mean: round1('s.n_lb_mean * s.scale'),
+		n_lb_low: round1('s.n_lb_low * s.scale'),
+		n_lb_high: round1('s.n_lb_high * s.scale'),
+		p_lb_mean: round1('s.p_lb_mean * s.scale'),
+		p_lb_low: round1('s.p_lb_low * s.scale'),
+		p_lb_high: round1('s.p_lb_high * s.scale'),
+		method_version: lit(ctx.methodVersion),
+		funding_category: `case when s.funding_program is null then 'not_reported' else ${SETTING.funding} ->> s.funding_program end`
+	};
+}
+
+/**
+ * The dataset's rows in record order as one SELECT, every value inlined as a literal (COPY takes no
+ * parameters). The rows are cut from record_estimates by its (method_version, record_id) index first, so a
+ * batch costs the same however far into the dataset it is, and the only join is to the record itself (the
+ * cells, practice names and funding categories are looked up in the prepared settings). Without `limit`
+ * only published rows come back; with it, every row of the cut does, with `record_id` (the keyset position)
+ * and `keep` (false: not part of the dataset, or in a suppressed cell), so pages advance past left-out rows.
+ */
+export function publishedSelect(
+	ctx: DatasetContext,
+	filter: DatasetFilter,
+	opts: { afterId?: string | null; limit?: number } = {}
+): string {
+	const where = [`method_version = ${lit(ctx.methodVersion)}`];
+	if (opts.afterId != null) {
+		if (!/^\d+$/.test(opts.afterId)) throw new RangeError(`not a record id: ${opts.afterId}`);
+		where.push(`record_id > ${opts.afterId}`);
+	}
+	if (filter.practice) where.push(`practice_code = ${lit(filter.practice)}`);
+	if (filter.county) where.push(`county_fips = ${lit(filter.county)}`);
+	if (filter.fy != null) where.push(`state_fy_first <= ${int(filter.fyTo ?? filter.fy)} and state_fy_last >= ${int(filter.fy)}`);
+	const keep = `(s.status = 'installed' or s.state_fy_first is not null) and s.level is not null${filter.county ? ` and s.level = 'county'` : ''}`;
+	const columns = columnSql(ctx);
+	const select = DATASET_COLUMNS.map((c) => `${columns[c]} as ${c}`);
+	if (opts.limit != null) select.push('s.record_id::text as record_id', `coalesce(${keep}, false) as keep`);
+	// Each layer is fenced (offset 0) so PostgreSQL computes its values once a row instead of copying the
+	// expressions into every use above; each keeps the record order, so no layer sorts.
+	return `select ${select.join(',\n\t\t\t')}
+		from (
+			select s2.*, case when s2.exact > 0 then s2.acres / s2.exact else 0 end as scale
+			from (
+				select s1.*, s1.d ->> 0 as level, s1.d ->> 1 as region, (s1.d ->> 2)::boolean as show_huc8, s1.d ->> 3 as practice_name,
+					case when not (s1.exact > 0) then 0::float8
+					when ${jsRound('s1.exact')} < ${ROUND_TO_5_FROM} then ${jsRound('s1.exact')}
+					else ${jsRound('s1.exact / 5')} * 5 end as acres
+				from (
+					select e.record_id, e.practice_code, e.county_fips, e.huc8, e.state_fy_installed, e.state_fy_first, e.state_fy_last,
+						e.n_lb_mean::float8 as n_lb_mean, e.n_lb_low::float8 as n_lb_low, e.n_lb_high::float8 as n_lb_high,
+						e.p_lb_mean::float8 as p_lb_mean, e.p_lb_low::float8 as p_lb_low, e.p_lb_high::float8 as p_lb_high,
+						coalesce(e.credited_acres::float8, 0) as exact, r.installed_on, r.status, r.funding_program,
+						${SETTING.cells} -> (e.county_fips || '|' || e.state_fy_installed || '|' || e.practice_code) as d
+					from (
+						select * from record_estimates where ${where.join(' and ')}
+						order by record_id${opts.limit != null ? ` limit ${int(opts.limit)}` : ''}
+					) as e
+						join records r on r.id = e.record_id
+					order by e.record_id offset 0
+				) as s1
+				order by s1.record_id offset 0
+			) as s2
+			order by s2.record_id offset 0
+		) as s
+		${opts.limit != null ? '' : `where ${keep}`}
+		order by s.record_id`;
+}
+
+type PublishedRow = DatasetRow & { record_id?: string; keep?: boolean };
+
+/**
+ * Up to `limit` published rows after `afterId`, with the position to continue from (null when there is no
+ * more). Left-out rows are skipped, so a page may read further than `limit` source rows to fill itself.
+ */
+export async function datasetPage(
+	exec: DatasetExec,
 	ctx: DatasetContext,
 	filter: DatasetFilter,
 	afterId: string | null,
 	limit: number
-): Promise<SourceRow[]> {
-	const where = [sql`method_version = ${ctx.methodVersion}`];
-	if (afterId) where.push(sql`record_id > ${afterId}::bigint`);
-	if (filter.practice) where.push(sql`practice_code = ${filter.practice}`);
-	if (filter.county) where.push(sql`county_fips = ${filter.county}`);
-	if (filter.fy != null) where.push(sql`state_fy_first <= ${filter.fyTo ?? filter.fy} and state_fy_last >= ${filter.fy}`);
-	const res = await sql<SourceRow>`
-		select e.record_id::text as record_id, ${INCLUDED} as included, e.practice_code, p.name as practice_name, e.county_fips,
-			d.region, e.huc8, r.installed_on, e.state_fy_installed as fy_installed, e.state_fy_first as fy_first,
-			e.state_fy_last as fy_last, e.credited_acres, e.n_lb_mean, e.n_lb_low, e.n_lb_high, e.p_lb_mean, e.p_lb_low, e.p_lb_high,
-			r.funding_program
-		from (
-			select * from record_estimates where ${sql.join(where, sql` and `)} order by record_id limit ${limit}
-		) as e
-			join records r on r.id = e.record_id
-			join districts d on d.id = e.district_id
-			join practices p on p.code = e.practice_code
-		order by e.record_id`.execute(db);
-	return res.rows;
-}
-
-/** A source row → its published row, or null when its cell is suppressed or the county filter excludes it. */
-export function publish(ctx: DatasetContext, s: SourceRow, filter: DatasetFilter): DatasetRow | null {
-	if (!s.included) return null;
-	const rec: SourceRecord = {
-		record_id: s.record_id,
-		practice_code: s.practice_code,
-		practice_name: s.practice_name,
-		county_fips: s.county_fips,
-		region: s.region,
-		state_fips: s.county_fips.slice(0, 2),
-		// record_estimates keeps HUC-8 only; toRow takes a HUC-12, so pad it (the last 4 digits are never used).
-		huc12: s.huc8 ? `${s.huc8}0000` : null,
-		installed_on: s.installed_on,
-		fy_installed: s.fy_installed,
-		fy_first: s.fy_first,
-		fy_last: s.fy_last,
-		credited_acres: Number(s.credited_acres),
-		n_lb_mean: Number(s.n_lb_mean),
-		n_lb_low: Number(s.n_lb_low),
-		n_lb_high: Number(s.n_lb_high),
-		p_lb_mean: Number(s.p_lb_mean),
-		p_lb_low: Number(s.p_lb_low),
-		p_lb_high: Number(s.p_lb_high),
-		method_version: ctx.methodVersion,
-		funding_program: s.funding_program,
-		operation_key: ''
-	};
-	const d = ctx.decisions.get(baseCellKey(rec));
-	if (!d) return null;
-	if (filter.county && d.level !== 'county') return null;
-	return toRow(rec, d.level, d.showHuc8 ? huc8Of(rec.huc12) : null, ctx.pseudonym);
+): Promise<{ rows: DatasetRow[]; last: string | null }> {
+	const rows: DatasetRow[] = [];
+	let last = afterId;
+	while (rows.length < limit) {
+		const want = limit - rows.length;
+		const cut = await exec<PublishedRow>(publishedSelect(ctx, filter, { afterId: last, limit: want }));
+		for (const r of cut) {
+			last = r.record_id!;
+			if (!r.keep) continue;
+			delete r.record_id;
+			delete r.keep;
+			rows.push(r);
+		}
+		if (cut.length < want) return { rows, last: null };
+	}
+	return { rows, last };
 }
 
 /**
- * Every published row of the filtered dataset, in batches (memory stays flat however many rows). The next
- * batch is asked for while the current one is being published, so the database and the encoder overlap.
+ * Every published row of the filtered dataset, in batches (memory stays flat however many rows). `exec` runs
+ * on one connection inside a transaction the caller opened; `prepare` has been called on it.
  */
 export async function* datasetRows(
-	db: Kysely<Database>,
+	exec: DatasetExec,
 	ctx: DatasetContext,
 	filter: DatasetFilter = {},
 	batch = 5000
 ): AsyncGenerator<DatasetRow> {
-	let next: Promise<SourceRow[]> | null = sourceBatch(db, ctx, filter, null, batch);
-	while (next) {
-		const rows: SourceRow[] = await next;
-		next = rows.length < batch ? null : sourceBatch(db, ctx, filter, rows[rows.length - 1].record_id, batch);
-		// A rejected prefetch is awaited (and thrown) on the next turn; do not let it go unhandled meanwhile.
-		next?.catch(() => {});
-		for (const s of rows) {
-			const row = publish(ctx, s, filter);
-			if (row) yield row;
+	let after: string | null = null;
+	do {
+		const page: { rows: DatasetRow[]; last: string | null } = await datasetPage(exec, ctx, filter, after, batch);
+		yield* page.rows;
+		after = page.last;
+	} while (after);
+}
+
+/**
+ * A pooled connection inside a read-only repeatable-read transaction with the context prepared, for a
+ * stream; `end(error?)` commits and releases it, or (after an error or a cancelled stream, when the
+ * connection may be mid-COPY) throws it away.
+ */
+async function streamingSession(ctx: DatasetContext): Promise<{ client: pg.PoolClient; end: (error?: unknown) => Promise<void> }> {
+	const client = await getPool().connect();
+	let ended = false;
+	const end = async (error?: unknown) => {
+		if (ended) return;
+		ended = true;
+		if (error) return client.release(error instanceof Error ? error : new Error(String(error)));
+		try {
+			await client.query('commit');
+			client.release();
+		} catch (e) {
+			client.release(e as Error);
+		}
+	};
+	try {
+		await client.query('begin isolation level repeatable read read only');
+		await prepare(clientExec(client), ctx);
+	} catch (e) {
+		await end(e);
+		throw e;
+	}
+	return { client, end };
+}
+
+/** A byte stream as a web ReadableStream, one chunk per pull (backpressure), calling `end` once. */
+function webStream(source: AsyncIterator<Uint8Array | string>, end: (error?: unknown) => Promise<void>, onCancel?: () => void) {
+	const enc = new TextEncoder();
+	return new ReadableStream<Uint8Array>({
+		async pull(controller) {
+			try {
+				const { value, done } = await source.next();
+				if (done) {
+					await end();
+					controller.close();
+				} else
+					controller.enqueue(
+						typeof value === 'string' ? enc.encode(value) : new Uint8Array(value.buffer, value.byteOffset, value.byteLength)
+					);
+			} catch (e) {
+				await end(e);
+				controller.error(e);
+			}
+		},
+		async cancel() {
+			onCancel?.();
+			await end(new Error('the client went away'));
+		}
+	});
+}
+
+/** COPY yields one chunk per row; hand the response about 64 KB at a time instead. */
+async function* coalesce(source: AsyncIterable<Buffer>, size = 64 * 1024): AsyncGenerator<Buffer> {
+	let parts: Buffer[] = [];
+	let length = 0;
+	for await (const chunk of source) {
+		parts.push(chunk);
+		length += chunk.length;
+		if (length >= size) {
+			yield Buffer.concat(parts, length);
+			parts = [];
+			length = 0;
 		}
 	}
+	if (length > 0) yield Buffer.concat(parts, length);
+}
+
+/** The filtered dataset as CSV with a header row: PostgreSQL's COPY of the published rows, streamed. */
+export async function datasetCsvStream(ctx: DatasetContext, filter: DatasetFilter): Promise<ReadableStream<Uint8Array>> {
+	const { client, end } = await streamingSession(ctx);
+	const copy = client.query(copyTo(`copy (${publishedSelect(ctx, filter)}) to stdout with (format csv, header)`));
+	return webStream(coalesce(copy as unknown as Readable), end, () => copy.destroy());
+}
+
+/** The filtered dataset as NDJSON, one published row a line, read in keyset batches. */
+export async function datasetNdjsonStream(ctx: DatasetContext, filter: DatasetFilter): Promise<ReadableStream<Uint8Array>> {
+	const { client, end } = await streamingSession(ctx);
+	async function* lines() {
+		for await (const rows of batches(datasetRows(clientExec(client), ctx, filter), 1000)) {
+			let out = '';
+			for (const r of rows) out += JSON.stringify(r) + '\n';
+			yield out;
+		}
+	}
+	return webStream(lines(), end);
+}
+
+/** Groups an async sequence into arrays of `size`. */
+export async function* batches<T>(items: AsyncIterable<T>, size: number): AsyncGenerator<T[]> {
+	let buf: T[] = [];
+	for await (const t of items) {
+		buf.push(t);
+		if (buf.length >= size) {
+			yield buf;
+			buf = [];
+		}
+	}
+	if (buf.length > 0) yield buf;
 }

@@ -1,8 +1,16 @@
 // GET /api/v1/dataset/records — the live anonymised research dataset: JSON cursor pages, or the whole
 // filtered dataset streamed as CSV / NDJSON. Scope `dataset:read`; rate-limited per token.
 import { getDb } from '$lib/server/db';
-import { datasetContext, datasetRows, publish, sourceBatch, type DatasetFilter } from '$lib/server/dataset/source';
-import { CSV_TYPE, encodeRows, NDJSON_TYPE, toWebStream } from '$lib/server/dataset/encode';
+import {
+	datasetContext,
+	datasetCsvStream,
+	datasetNdjsonStream,
+	datasetPage,
+	kyselyExec,
+	prepare,
+	type DatasetFilter
+} from '$lib/server/dataset/source';
+import { CSV_TYPE, NDJSON_TYPE } from '$lib/server/dataset/encode';
 import { takeRateLimit } from '$lib/server/dataset/rate-limit';
 import { decodeCursor, encodeCursor, nextLink, pageLimit } from '$lib/server/http/cursor';
 import { ApiError } from '$lib/server/http/problem';
@@ -30,7 +38,7 @@ export const GET: RequestHandler = async ({ url, locals, request }) => {
 	const ctx = await datasetContext(db);
 	const headers = { ...limits, 'cache-control': 'private, no-store', 'x-method-version': ctx.methodVersion };
 	if (format === 'csv' || format === 'ndjson') {
-		const stream = toWebStream(encodeRows(datasetRows(db, ctx, filter), format));
+		const stream = format === 'csv' ? await datasetCsvStream(ctx, filter) : await datasetNdjsonStream(ctx, filter);
 		return new Response(stream, {
 			headers: {
 				...headers,
@@ -41,22 +49,12 @@ export const GET: RequestHandler = async ({ url, locals, request }) => {
 	}
 	const limit = pageLimit(url, 100, 1000);
 	const after = decodeCursor(url.searchParams.get('cursor'), z.object({ after: z.string().regex(/^\d+$/) }))?.after ?? null;
-	// Fetch source rows until the page is full (suppressed rows are skipped), keeping the last id read.
-	const data = [];
-	let last = after;
-	let exhausted = false;
-	while (data.length < limit && !exhausted) {
-		const batch = await sourceBatch(db, ctx, filter, last, limit - data.length);
-		if (batch.length < limit - data.length) exhausted = true;
-		for (const s of batch) {
-			last = s.record_id;
-			const row = publish(ctx, s, filter);
-			if (row) data.push(row);
-		}
-		if (batch.length === 0) exhausted = true;
-	}
-	const next = exhausted ? null : nextLink(url, encodeCursor({ after: last }));
-	const body = { data, next, method_version: ctx.methodVersion, small_cells: ctx.counts };
+	const page = await db.transaction().execute(async (trx) => {
+		await prepare(kyselyExec(trx), ctx);
+		return datasetPage(kyselyExec(trx), ctx, filter, after, limit);
+	});
+	const next = page.last ? nextLink(url, encodeCursor({ after: page.last })) : null;
+	const body = { data: page.rows, next, method_version: ctx.methodVersion, small_cells: ctx.counts };
 	const h: Record<string, string> = { ...headers, 'content-type': 'application/json' };
 	if (next) h.link = `<${next}>; rel="next"`;
 	return new Response(JSON.stringify(body), { headers: h });
