@@ -150,7 +150,19 @@ describe('summary cells', () => {
 					const r = cells.get(cellId(d));
 					if (!r) cells.set(cellId(d), { ...d });
 					else
-						for (const k of ['practices', 'operations', 'acres', 'cost', 'cost_share', 'n_mean', 'n_low', 'n_high', 'p_mean', 'p_low', 'p_high'] as const)
+						for (const k of [
+							'practices',
+							'operations',
+							'acres',
+							'cost',
+							'cost_share',
+							'n_mean',
+							'n_low',
+							'n_high',
+							'p_mean',
+							'p_low',
+							'p_high'
+						] as const)
 							r[k] += d[k];
 				}
 				const applied = [...cells.values()].filter((r) => r.practices !== 0 || r.operations !== 0);

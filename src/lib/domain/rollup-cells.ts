@@ -2,8 +2,8 @@
 // bases, state and federal FYs), its amounts are added to six cells of its district — county × practice,
 // county, HUC-8 × practice, HUC-8, practice, all practices — and its operation to those cells' sets of
 // distinct operations. Amounts are integers (cents, 1/10,000 acre, millionths of a pound) so every sum is
-// exact and any order of adding gives the same cells: what a batch refresh computes for a few keys equals
-// what a full rebuild computes for all of them.
+// exact and any order of adding gives the same cells: a full rebuild and a refresh that adds the deltas of
+// changed records (cellDeltas: new contributions minus old ones) to stored cells end with the same cells.
 
 export type FyBasisName = 'state' | 'federal';
 export type CountBasisName = 'installed' | 'in_service';
@@ -236,7 +236,10 @@ export const cellId = (c: Pick<CellRow, 'district_id' | 'fy_basis' | 'basis' | '
 	`${c.district_id}|${c.fy_basis}|${c.basis}|${c.fy}|${c.geo_level}|${c.geo}|${c.practice_code}`;
 
 /** Whether a fact counts in a cell. */
-export function countsIn(f: CellFact, c: Pick<CellRow, 'district_id' | 'fy_basis' | 'basis' | 'fy' | 'geo_level' | 'geo' | 'practice_code'>): boolean {
+export function countsIn(
+	f: CellFact,
+	c: Pick<CellRow, 'district_id' | 'fy_basis' | 'basis' | 'fy' | 'geo_level' | 'geo' | 'practice_code'>
+): boolean {
 	if (f.district_id !== c.district_id) return false;
 	if (c.practice_code !== '*' && c.practice_code !== f.practice_code) return false;
 	if (c.geo_level === 'county' ? f.county_fips !== c.geo : c.geo_level === 'huc8' ? (f.huc8 ?? '') !== c.geo : false) return false;

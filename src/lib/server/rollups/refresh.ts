@@ -1,18 +1,21 @@
 // Keeps the stored estimates (`record_estimates`) and the summary cells (`rollup_cells`) current.
 //
 // - `refreshRecords(trx, ids)` runs inside every write transaction that changes practice records (through
-//   `afterRecordsChanged`): it re-estimates the changed records and the records stacked on the same fields
-//   under the active method, then recomputes only the summary cells those records touched before or after
-//   the change — the (district, FY basis, basis, FY) keys of their old and new footprints. Other method
-//   versions are marked stale and rebuilt when someone asks for them.
-// - `rebuildMethod(db, version)` recomputes one method version from all records, in chunks (estimates by
-//   record-id ranges, cells by groups of districts), for a method just made active, a method asked for
-//   without a current summary, or a changed state FY start month.
+//   `afterRecordsChanged`; a batch calls it once for all its chunks): it re-estimates the changed records and
+//   the records stacked on the same fields under the active method, and adds to the stored cells what
+//   changed — each changed record's new contribution minus its old one (cellDeltas in rollup-cells.ts), so
+//   the work follows the records changed, not the size of the cells they count in. Distinct-operation
+//   counts move only where an operation's changed records enter or leave a cell; then the operation's
+//   other records (one indexed read per refresh) say whether the operation stays. A stored cell that does
+//   not agree with the deltas (a summary not kept by these writers) makes the refresh recompute the keys
+//   instead. Other method versions are marked stale and rebuilt when someone asks for them.
+// - `rebuildMethod(db, version)` recomputes one method version from all records, whole districts per
+//   transaction, for a method just made active, a method asked for without a current summary, or a changed
+//   state FY start month.
 //
 // Every write takes the same transaction-level advisory lock, so a batch commit and a rebuild chunk never
-// interleave on the same rows. Everything is set-based: one query loads a chunk of records, one writes
-// its estimates (unnest) and returns the keys touched, one loads the facts of those districts, the cells
-// are summed in memory (rollup-cells.ts, exact integer sums) and written back with one unnest per chunk.
+// interleave on the same rows. Everything is set-based (unnest arrays, one statement per step) and every
+// amount is an exact integer (rollup-cells.ts), so patched cells are identical to rebuilt ones.
 import { sql, type Kysely, type Transaction } from 'kysely';
 import type { Database } from '../db/schema';
 import { recordFacts, type FactRecord, type RecordFact } from '$lib/domain/rollup-facts';
