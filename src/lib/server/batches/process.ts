@@ -22,6 +22,8 @@ import { upsertEvents } from '../events/upsert';
 import type { PracticeEventV1 } from '$lib/schema/practice-event';
 
 const CHUNK_ROWS = Number(process.env.BATCH_CHUNK_ROWS ?? 1000);
+/** Records per derived-data refresh at the end of a batch. */
+const REFRESH_SLICE = 10_000;
 const FINDINGS_FLUSH = 1000;
 /** Findings stored per batch; more are counted (by code and column) but not listed. */
 export const MAX_STORED_FINDINGS = Number(process.env.MAX_STORED_FINDINGS ?? 100_000);
@@ -272,8 +274,12 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 		const rowRejected = tally.rejectedRows;
 		const nothingWritten = fileRejected || (mode === 'all' && tally.errors > 0);
 		if (writes && !nothingWritten && changedIds.length > 0) {
-			await afterRecordsChanged(trx, [...new Set(changedIds)]);
-			await heartbeat(true);
+			// In slices, so memory stays bounded for files of any size (each slice is a complete refresh step).
+			const ids = [...new Set(changedIds)];
+			for (let i = 0; i < ids.length; i += REFRESH_SLICE) {
+				await afterRecordsChanged(trx, ids.slice(i, i + REFRESH_SLICE));
+				await heartbeat(true);
+			}
 		}
 		const rejected = nothingWritten ? tally.rows : Math.min(rowRejected, tally.rows);
 		const accepted = tally.rows - rejected;
