@@ -131,7 +131,8 @@ describe('incremental maintenance = full rebuild', () => {
 			}),
 			{ numRuns: 16 }
 		);
-	});
+		// Sixteen random histories of up to fourteen transactions each: minutes on a machine busy with other suites.
+	}, 300_000);
 
 	it('a stored summary that disagrees with the stored estimates is recomputed, not patched, on the next change', async () => {
 		const districtId = await createDistrict(db, 'RTF', 'Rollup fallback district', 'Rollup Test Region', COUNTIES);
