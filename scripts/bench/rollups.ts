@@ -2,15 +2,19 @@
 // (generated in bulk SQL; invented data), a full summary build, then three ratios measured in this process:
 //   (a) GET /api/v1/rollups median latency ÷ the bare SQL read of the stored summary it answers from (target ≤ 2)
 //   (b) a naive GROUP BY over the records for the same answer ÷ that summary read (expect ≥ 20)
-//   (c) the summary refresh after a 10,000-row batch ÷ that batch's record writes (target ≤ 0.1)
-// Env: BENCH_RECORDS (default 1,000,000), BENCH_RUNS (default 25).
-import http from 'node:http';
-import type { AddressInfo } from 'node:net';
+//   (c) the summary refresh within the intake of a 10,000-row file of one district ÷ that intake (target ≤ 0.1)
+// Env: BENCH_RECORDS (default 1,000,000), BENCH_RUNS (default 25); with DATABASE_URL, an earlier run's database
+// (records and summary) is reused.
+import { spawn } from 'node:child_process';
+import { createReadStream, mkdtempSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
 import path from 'node:path';
-import { pathToFileURL } from 'node:url';
 import { sql } from 'kysely';
+import { stringify } from 'csv-stringify/sync';
 import { build, buildIsStale } from '../lib/build';
 import { ROOT } from '../lib/env';
+import { startFakeS3Process } from '../lib/fake-s3';
+import { freePort } from '../lib/postgres';
 
 const log = (m: string) => console.error(m);
 const median = (xs: number[]) => {
@@ -24,14 +28,23 @@ export async function run(): Promise<void> {
 	const RUNS = Number(process.env.BENCH_RUNS ?? 25);
 	process.env.RUNNEL_SERVICES = '0'; // no background rebuilds while measuring
 	process.env.LOG_LEVEL = 'silent';
-	if (buildIsStale()) build(log);
+	if (process.env.BENCH_ONLY_REFRESH !== '1' && buildIsStale()) build(log);
+	// Object storage for the intake in (c): a fake S3 server in a child process, as the intake benchmark uses.
+	const s3 = await startFakeS3Process();
+	Object.assign(process.env, s3.env);
+	process.once('exit', () => s3.stop());
 
 	const { getDb, closeDb } = await import('../../src/lib/server/db');
 	const { migrator } = await import('../../src/lib/server/db/migrations');
 	const { seedReference } = await import('../../seeds/reference');
 	const { hashToken } = await import('../../src/lib/server/auth/tokens');
 	const { getActiveMethodVersion } = await import('../../src/lib/server/methods');
-	const { rebuildMethod, refreshRecords } = await import('../../src/lib/server/rollups/refresh');
+	const { rebuildMethod, refreshClock } = await import('../../src/lib/server/rollups/refresh');
+	const { createBatch } = await import('../../src/lib/server/batches/create');
+	const { processBatch } = await import('../../src/lib/server/batches/process');
+	const { stopBoss } = await import('../../src/lib/server/batches/queue');
+	const { closeObjectStore } = await import('../../src/lib/server/storage/object-store');
+	const { PRACTICE_RECORD_COLUMNS } = await import('../../src/lib/schema/practice-record');
 	const { groupingSql, totalsSql } = await import('../../src/lib/server/rollups/query');
 	const { parseGrouping } = await import('../../src/lib/schema/rollups');
 	const db = getDb();
@@ -122,180 +135,219 @@ export async function run(): Promise<void> {
 	await sql`analyze`.execute(db);
 	const cells = Number((await sql<{ n: string }>`select count(*) as n from rollup_cells`.execute(db)).rows[0].n);
 
-	// --- (a) API vs bare summary read ---------------------------------------------------------------------------
-	const handler = (await import(pathToFileURL(path.join(ROOT, 'build', 'handler.js')).href)).handler as http.RequestListener;
-	const server = http.createServer(handler);
-	await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
-	const origin = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
-	const query = 'group=county,fy&fy=2016..2027&basis=in_service';
-	const grouping = parseGrouping('county,fy');
-	const src = {
-		methodVersion: version,
-		fyBasis: 'state' as const,
-		basis: 'in_service' as const,
-		fy: { from: 2016, to: 2027 },
-		districtId: null,
-		county: null,
-		practice: null
-	};
-	const api = async () => {
-		const s = performance.now();
-		const res = await fetch(`${origin}/api/v1/rollups?${query}`, { headers: { authorization: `Bearer ${token}` } });
-		const body = (await res.json()) as { groupings: { cells: unknown[] }[] };
-		if (res.status !== 200) throw new Error(`API answered ${res.status}: ${JSON.stringify(body)}`);
-		return { ms: performance.now() - s, cells: body.groupings[0].cells.length };
-	};
-	const bare = async () => {
-		const s = performance.now();
-		// The same two summary reads the API makes, side by side as it makes them.
-		const [r] = await Promise.all([groupingSql(grouping, src).execute(db), totalsSql(src).execute(db)]);
-		return { ms: performance.now() - s, cells: r.rows.length };
-	};
-	for (let i = 0; i < 3; i++) {
-		await api();
-		await bare();
-	}
 	const apiTimes: number[] = [];
 	const bareTimes: number[] = [];
-	let apiCells = 0;
-	for (let i = 0; i < RUNS; i++) {
-		const a = await api();
-		apiTimes.push(a.ms);
-		apiCells = a.cells;
-		bareTimes.push((await bare()).ms);
-	}
-	server.close();
-
-	// --- (b) naive GROUP BY over the records, same answer ------------------------------------------------------
-	const naive = async () => {
-		const s = performance.now();
-		const r = await sql`
-			select r.county_fips, g.fy, count(*) as practices, count(distinct r.district_id || ':' || coalesce(r.operation_id, '')) as operations,
-				sum(e.credited_acres) as acres, sum(coalesce(r.cost_total_usd, 0)) as cost, sum(coalesce(r.cost_share_usd, 0)) as cost_share,
-				sum(e.n_lb_mean), sum(e.n_lb_low), sum(e.n_lb_high), sum(e.p_lb_mean), sum(e.p_lb_low), sum(e.p_lb_high)
-			from records r
-			join practices p on p.code = r.practice_code
-			join record_estimates e on e.record_id = r.id and e.method_version = ${version}
-			cross join lateral generate_series(
-				extract(year from r.installed_on + interval '6 months')::int,
-				extract(year from least((r.installed_on + make_interval(years => p.lifespan_years))::date - 1, coalesce(r.withdrawn_on, 'infinity'::date)) + interval '6 months')::int
-			) as g(fy)
-			where g.fy between 2016 and 2027
-			group by r.county_fips, g.fy`.execute(db);
-		return { ms: performance.now() - s, cells: r.rows.length };
-	};
-	await naive();
 	const naiveTimes: number[] = [];
+	let apiCells = 0;
+	let apiBytes = 0;
 	let naiveCells = 0;
-	for (let i = 0; i < 3; i++) {
-		const n = await naive();
-		naiveTimes.push(n.ms);
-		naiveCells = n.cells;
+	// BENCH_ONLY_REFRESH=1: only (c), for iterating on the refresh (no app build needed).
+	if (process.env.BENCH_ONLY_REFRESH !== '1') {
+		// --- (a) API vs bare summary read ---------------------------------------------------------------------------
+		// The app runs as its own process (build/index.js, as in production), so the client's work does not share
+		// its event loop; a request is timed from sending it to the last byte of the body.
+		const port = await freePort();
+		const origin = `http://127.0.0.1:${port}`;
+		const app = spawn(process.execPath, [path.join(ROOT, 'build', 'index.js')], {
+			cwd: ROOT,
+			env: {
+				...process.env,
+				HOST: '127.0.0.1',
+				PORT: String(port),
+				ORIGIN: origin,
+				NODE_ENV: 'production',
+				LOG_LEVEL: 'silent',
+				RUNNEL_SERVICES: '0'
+			},
+			stdio: 'ignore'
+		});
+		for (let i = 0; ; i++) {
+			try {
+				if ((await fetch(`${origin}/api/v1/health`)).ok) break;
+			} catch {
+				/* not listening yet */
+			}
+			if (i > 600) throw new Error('the app did not start');
+			await new Promise((r) => setTimeout(r, 100));
+		}
+		const query = 'group=county,fy&fy=2016..2027&basis=in_service';
+		const grouping = parseGrouping('county,fy');
+		const src = {
+			methodVersion: version,
+			fyBasis: 'state' as const,
+			basis: 'in_service' as const,
+			fy: { from: 2016, to: 2027 },
+			districtId: null,
+			county: null,
+			practice: null
+		};
+		const api = async () => {
+			const s = performance.now();
+			const res = await fetch(`${origin}/api/v1/rollups?${query}`, { headers: { authorization: `Bearer ${token}` } });
+			const body = await res.arrayBuffer();
+			const took = performance.now() - s;
+			// Parsed after the clock stops: the client's decoding is not the server's latency.
+			const parsed = JSON.parse(Buffer.from(body).toString('utf8')) as { groupings: { cells: unknown[] }[] };
+			if (res.status !== 200) throw new Error(`API answered ${res.status}: ${JSON.stringify(parsed)}`);
+			return { ms: took, cells: parsed.groupings[0].cells.length, bytes: body.byteLength };
+		};
+		const bare = async () => {
+			const s = performance.now();
+			// The same two summary reads the API makes, side by side as it makes them.
+			const [r] = await Promise.all([groupingSql(grouping, src).execute(db), totalsSql(src).execute(db)]);
+			return { ms: performance.now() - s, cells: r.rows.length };
+		};
+		for (let i = 0; i < 3; i++) {
+			await api();
+			await bare();
+		}
+		for (let i = 0; i < RUNS; i++) {
+			const a = await api();
+			apiTimes.push(a.ms);
+			apiCells = a.cells;
+			apiBytes = a.bytes;
+			bareTimes.push((await bare()).ms);
+		}
+		app.kill('SIGTERM');
+		await new Promise((r) => app.once('exit', r));
+
+		// --- (b) naive GROUP BY over the records, same answer ------------------------------------------------------
+		const naive = async () => {
+			const s = performance.now();
+			const r = await sql`
+				select r.county_fips, g.fy, count(*) as practices, count(distinct r.district_id || ':' || coalesce(r.operation_id, '')) as operations,
+					sum(e.credited_acres) as acres, sum(coalesce(r.cost_total_usd, 0)) as cost, sum(coalesce(r.cost_share_usd, 0)) as cost_share,
+					sum(e.n_lb_mean), sum(e.n_lb_low), sum(e.n_lb_high), sum(e.p_lb_mean), sum(e.p_lb_low), sum(e.p_lb_high)
+				from records r
+				join practices p on p.code = r.practice_code
+				join record_estimates e on e.record_id = r.id and e.method_version = ${version}
+				cross join lateral generate_series(
+					extract(year from r.installed_on + interval '6 months')::int,
+					extract(year from least((r.installed_on + make_interval(years => p.lifespan_years))::date - 1, coalesce(r.withdrawn_on, 'infinity'::date)) + interval '6 months')::int
+				) as g(fy)
+				where g.fy between 2016 and 2027
+				group by r.county_fips, g.fy`.execute(db);
+			return { ms: performance.now() - s, cells: r.rows.length };
+		};
+		await naive();
+		for (let i = 0; i < 3; i++) {
+			const n = await naive();
+			naiveTimes.push(n.ms);
+			naiveCells = n.cells;
+		}
 	}
 
-	// --- (c) a 10,000-row batch: its writes, then the summary refresh ------------------------------------------
+	// --- (c) a 10,000-row file of one district through the real intake, and the refresh's share of it -----------
+	// Each round sends one CSV file to district D153 (8,000 new records, 2,000 changed ones: their acres + 1)
+	// through createBatch + processBatch — upload to a temp file, archive in object storage, stream back,
+	// parse, check, write in 1,000-row chunks — and times the whole intake. The summary refresh runs inside
+	// it (afterRecordsChanged, once per written chunk); its own time is read from refreshClock.
+	const district = await db.selectFrom('districts').select(['id', 'code']).where('code', '=', 'D153').executeTakeFirstOrThrow();
 	const runId = Date.now().toString(36);
+	const tmp = mkdtempSync(path.join(os.tmpdir(), 'runnel-bench-rollups-'));
+	const admin = {
+		kind: 'client' as const,
+		userId: null,
+		email: null,
+		name: 'Benchmark',
+		role: 'admin' as const,
+		districtId: null,
+		scopes: ['records:write' as const],
+		credentialId: 'bench',
+		expiresAt: null
+	};
+	const num = (v: unknown) => (v === null || v === undefined ? '' : String(v));
 	const batch = async (round: number) => {
-		const district = await db.selectFrom('districts').select('id').where('code', '=', 'D153').executeTakeFirstOrThrow();
-		const existing = (
-			await sql<{
-				id: string;
-			}>`select id::text as id from records where district_id = ${district.id} order by id limit 2000 offset ${round * 2000}`.execute(db)
-		).rows.map((r) => r.id);
-		return db.transaction().execute(async (trx) => {
-			const s = performance.now();
-			const rows = Array.from({ length: 8000 }, (_, i) => {
-				const code = ['340', '605', '554', '604', '590'][i % 5];
-				const edge = code === '605' || code === '554' || code === '604';
-				const acres = 10 + ((i * 37) % 290);
-				const data = {
-					local_id: `batch-${runId}-${round}-${i}`,
-					practice_code: code,
-					county_fips: '19153',
-					installed_on: `2026-${String(1 + (i % 12)).padStart(2, '0')}-15`,
-					extent_acres: edge ? null : acres,
-					drainage_area_acres: edge ? acres : null,
-					// About half the practices share a field with one or two others (stacking).
-					field_id: i % 2 === 0 ? `N${runId}-${round}-${Math.floor(i / 6)}` : null,
-					operation_id: `op-${i % 700}`,
-					huc12: '070801050101',
-					cost_total_usd: acres * 100,
-					cost_share_usd: acres * 75,
-					funding_program: 'state cost-share',
-					notes: 'Installed to the practice standard; checked by district staff on site.'
-				};
-				return {
-					district_id: district.id,
-					local_id: data.local_id,
-					version: 1,
-					practice_code: code,
-					county_fips: '19153',
-					installed_on: data.installed_on,
-					status: 'installed' as const,
-					withdrawn_on: null,
-					extent_acres: data.extent_acres,
-					drainage_area_acres: data.drainage_area_acres,
-					field_id: data.field_id,
-					operation_id: data.operation_id,
-					huc12: data.huc12,
-					cost_total_usd: data.cost_total_usd,
-					cost_share_usd: data.cost_share_usd,
-					funding_program: data.funding_program,
-					data: JSON.stringify(data),
-					content_hash: `h${runId}-${round}-${i}`
-				};
+		const { rows: existing } = await sql<Record<string, string | null>>`
+			select local_id, practice_code, county_fips, installed_on::text as installed_on, status, withdrawn_on::text as withdrawn_on,
+				extent_acres + 1 as extent_acres, drainage_area_acres + 1 as drainage_area_acres, field_id, operation_id, huc12,
+				cost_total_usd, cost_share_usd, funding_program
+			from records where district_id = ${district.id} and installed_on < current_date
+				and (withdrawn_on is null or withdrawn_on < current_date)
+			order by id limit 2000 offset ${round * 2000}`.execute(db);
+		const rows: Record<string, unknown>[] = [];
+		for (let i = 0; i < 8000; i++) {
+			const code = ['340', '605', '554', '604', '590'][i % 5];
+			const edge = code === '605' || code === '554' || code === '604';
+			const acres = 10 + ((i * 37) % 290);
+			rows.push({
+				local_id: `batch-${runId}-${round}-${i}`,
+				practice_code: code,
+				county_fips: '19153',
+				installed_on: `2026-${String(1 + (i % 11)).padStart(2, '0')}-15`,
+				status: 'installed',
+				extent_acres: edge ? null : acres,
+				drainage_area_acres: edge ? acres : null,
+				// About half the practices share a field with one or two others (stacking).
+				field_id: i % 2 === 0 ? `N${runId}-${round}-${Math.floor(i / 6)}` : null,
+				operation_id: `op-${i % 700}`,
+				huc12: '070801050101',
+				cost_total_usd: acres * 100,
+				cost_share_usd: acres * 75,
+				funding_program: 'state cost-share'
 			});
-			const ids: string[] = [];
-			for (let i = 0; i < rows.length; i += 1000) {
-				const ins = await trx
-					.insertInto('records')
-					.values(rows.slice(i, i + 1000))
-					.returning(['id', 'data'])
-					.execute();
-				await trx
-					.insertInto('record_versions')
-					.values(
-						ins.map((r) => ({
-							record_id: r.id,
-							version: 1,
-							data: JSON.stringify(r.data),
-							changed_fields: [],
-							batch_id: null,
-							actor: 'bench'
-						}))
-					)
-					.execute();
-				ids.push(...ins.map((r) => String(r.id)));
-			}
-			await sql`update records r set drainage_area_acres = coalesce(r.drainage_area_acres, 0) + 1, extent_acres = coalesce(r.extent_acres, 0) + 1,
-					version = r.version + 1, data = r.data || jsonb_build_object('changed', ${round}::int), updated_at = now()
-				where r.id = any(${existing}::bigint[])`.execute(trx);
-			await sql`insert into record_versions (record_id, version, data, changed_fields, actor)
-				select id, version, data, array['extent_acres', 'drainage_area_acres'], 'bench' from records where id = any(${existing}::bigint[])`.execute(
-				trx
-			);
-			const write = performance.now() - s;
-			const r0 = performance.now();
-			await refreshRecords(trx, [...ids, ...existing]);
-			return { write, refresh: performance.now() - r0 };
+			// The changed records are spread through the file (one in five rows).
+			if (i % 4 === 3 && existing[(i - 3) / 4]) rows.push(existing[(i - 3) / 4]);
+		}
+		const file = path.join(tmp, `round-${round}.csv`);
+		writeFileSync(file, stringify([[...PRACTICE_RECORD_COLUMNS], ...rows.map((r) => PRACTICE_RECORD_COLUMNS.map((c) => num(r[c])))]));
+		const before = { ...refreshClock };
+		const s = performance.now();
+		const answer = await createBatch(admin, {
+			mode: 'all',
+			format: 'csv',
+			contentType: 'text/csv',
+			districtCode: district.code,
+			sheet: null,
+			fileName: `round-${round}.csv`,
+			idempotencyKey: `bench-rollups-${runId}-${round}`,
+			contentLength: statSync(file).size,
+			body: createReadStream(file)
 		});
+		await processBatch(answer.body.id);
+		const intake = performance.now() - s;
+		const done = await db
+			.selectFrom('batches')
+			.select(['status', 'rows', 'accepted', 'errors', 'created', 'updated', 'unchanged'])
+			.where('id', '=', answer.body.id)
+			.executeTakeFirstOrThrow();
+		if (done.created !== 8000 || done.updated !== existing.length)
+			throw new Error(`the batch did not write as planned: ${JSON.stringify(done)}`);
+		return { intake, refresh: refreshClock.ms - before.ms, calls: refreshClock.calls - before.calls, rows: done.rows };
 	};
 	const batches = [];
-	for (let i = 0; i < 3; i++) batches.push(await batch(i));
+	try {
+		for (let i = 0; i < 3; i++) {
+			const b = await batch(i);
+			log(`  batch ${i + 1}: intake ${ms(b.intake)}, refresh ${ms(b.refresh)} in ${b.calls} calls`);
+			batches.push(b);
+		}
+	} finally {
+		await stopBoss();
+		await closeObjectStore();
+		s3.stop();
+		rmSync(tmp, { recursive: true, force: true });
+	}
 
 	const a = median(apiTimes) / median(bareTimes);
 	const b = median(naiveTimes) / median(bareTimes);
-	const c = median(batches.map((x) => x.refresh)) / median(batches.map((x) => x.write));
+	const c = median(batches.map((x) => x.refresh / x.intake));
 	console.log(`\nRollups benchmark — ${N.toLocaleString('en-US')} records, 99 counties, state FY2016–FY2027, method ${version}`);
 	console.log(`  setup: generate ${ms(genMs)}, full summary build ${ms(fullMs)} (${cells.toLocaleString('en-US')} cells)`);
 	console.log(
-		`  (a) API median ${ms(median(apiTimes))} (${apiCells} cells) ÷ bare summary read ${ms(median(bareTimes))} = ${a.toFixed(2)}   (target ≤ 2)`
+		`  (a) API median ${ms(median(apiTimes))} (${apiCells} cells, ${Math.round(apiBytes / 1024)} KB) ÷ bare summary read ${ms(median(bareTimes))} = ${a.toFixed(2)}   (target ≤ 2)`
 	);
 	console.log(
 		`  (b) naive GROUP BY over records ${ms(median(naiveTimes))} (${naiveCells} cells) ÷ summary read = ${b.toFixed(1)}   (expect ≥ 20)`
 	);
 	console.log(
-		`  (c) refresh after a 10,000-row batch ${ms(median(batches.map((x) => x.refresh)))} ÷ its record writes ${ms(median(batches.map((x) => x.write)))} = ${c.toFixed(2)}   (target ≤ 0.1)`
+		`  (c) summary refresh within the intake of a 10,000-row file ${ms(median(batches.map((x) => x.refresh)))} ÷ that intake ${ms(median(batches.map((x) => x.intake)))} = ${c.toFixed(3)} (median of ${batches.length} rounds)   (target ≤ 0.1)`
+	);
+	console.log(
+		`  load average at the end: ${os
+			.loadavg()
+			.map((x) => x.toFixed(1))
+			.join(' ')} on ${os.cpus().length} CPUs`
 	);
 	await closeDb();
 }

@@ -2,7 +2,7 @@
 // six levels, then grouped. Random facts (fast-check) plus a worked example.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { aggregateCells, countedIn, keysOf, summaryKeyId, type CellFact, type CellRow } from '$lib/domain/rollup-cells';
+import { aggregateCells, cellDeltas, cellId, countedIn, keysOf, summaryKeyId, type CellFact, type CellRow } from '$lib/domain/rollup-cells';
 
 function reference(facts: CellFact[]): CellRow[] {
 	const groups = new Map<string, { row: CellRow; ops: Set<string> }>();
@@ -108,6 +108,67 @@ describe('summary cells', () => {
 				expect(sortRows(aggregateCells(facts, only))).toEqual(sortRows(aggregateCells(facts).filter(inKeys)));
 			}),
 			{ numRuns: 80 }
+		);
+	}, 60_000);
+
+	it('cells + the deltas of a change = the cells after it (inserts, updates, removals; distinct operations)', () => {
+		// Records 0..n-1 with facts before; each is kept, changed, removed, or new (no fact before).
+		const change = fc.oneof(
+			fc.constant({ kind: 'keep' as const }),
+			fc.constant({ kind: 'remove' as const }),
+			fact.map((f) => ({ kind: 'change' as const, f })),
+			fact.map((f) => ({ kind: 'new' as const, f }))
+		);
+		fc.assert(
+			fc.property(fc.array(fc.tuple(fact, change), { maxLength: 30 }), (records) => {
+				const old: CellFact[] = [];
+				const now: CellFact[] = [];
+				const before: CellFact[] = [];
+				const after: CellFact[] = [];
+				const others: CellFact[] = [];
+				for (const [f, c] of records) {
+					if (c.kind !== 'new') old.push(f);
+					if (c.kind === 'keep') {
+						now.push(f);
+						others.push(f);
+					} else if (c.kind === 'remove') before.push(f);
+					else if (c.kind === 'new') {
+						now.push(c.f);
+						after.push(c.f);
+					} else {
+						now.push(c.f);
+						before.push(f);
+						after.push(c.f);
+					}
+				}
+				const pending = cellDeltas(before, after);
+				// Only the unchanged records of the operations asked about are needed.
+				const asked = new Set(pending.operations.map((o) => `${o.district_id}|${o.operation_key}`));
+				const deltas = pending.finish(others.filter((f) => asked.has(`${f.district_id}|${f.operation_key}`)));
+				const cells = new Map(aggregateCells(old).map((r) => [cellId(r), { ...r }]));
+				for (const d of deltas) {
+					const r = cells.get(cellId(d));
+					if (!r) cells.set(cellId(d), { ...d });
+					else
+						for (const k of [
+							'practices',
+							'operations',
+							'acres',
+							'cost',
+							'cost_share',
+							'n_mean',
+							'n_low',
+							'n_high',
+							'p_mean',
+							'p_low',
+							'p_high'
+						] as const)
+							r[k] += d[k];
+				}
+				const applied = [...cells.values()].filter((r) => r.practices !== 0 || r.operations !== 0);
+				expect(sortRows(applied)).toEqual(sortRows(aggregateCells(now)));
+			}),
+			{ numRuns: 300 }
 		);
 	}, 60_000);
 

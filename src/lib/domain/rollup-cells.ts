@@ -2,8 +2,8 @@
 // bases, state and federal FYs), its amounts are added to six cells of its district — county × practice,
 // county, HUC-8 × practice, HUC-8, practice, all practices — and its operation to those cells' sets of
 // distinct operations. Amounts are integers (cents, 1/10,000 acre, millionths of a pound) so every sum is
-// exact and any order of adding gives the same cells: what a batch refresh computes for a few keys equals
-// what a full rebuild computes for all of them.
+// exact and any order of adding gives the same cells: a full rebuild and a refresh that adds the deltas of
+// changed records (cellDeltas: new contributions minus old ones) to stored cells end with the same cells.
 
 export type FyBasisName = 'state' | 'federal';
 export type CountBasisName = 'installed' | 'in_service';
@@ -124,19 +124,27 @@ function newAcc(
 	};
 }
 
+/** The integer amounts a fact adds to each cell it counts in. */
+export const AMOUNTS = ['acres', 'cost', 'cost_share', 'n_mean', 'n_low', 'n_high', 'p_mean', 'p_low', 'p_high'] as const;
+type Amounts = Pick<CellRow, (typeof AMOUNTS)[number]>;
+
+/** Adds `sign` × (one practice and the amounts of `f`) to a cell row. */
+function addFact(r: CellRow, f: Amounts & { practices?: number }, sign: number): void {
+	// Written out (not a loop over AMOUNTS): this runs for every (record, FY, cell).
+	r.practices += sign * (f.practices ?? 1);
+	r.acres += sign * f.acres;
+	r.cost += sign * f.cost;
+	r.cost_share += sign * f.cost_share;
+	r.n_mean += sign * f.n_mean;
+	r.n_low += sign * f.n_low;
+	r.n_high += sign * f.n_high;
+	r.p_mean += sign * f.p_mean;
+	r.p_low += sign * f.p_low;
+	r.p_high += sign * f.p_high;
+}
+
 function add(into: Acc, from: Acc): void {
-	const r = into.row;
-	const f = from.row;
-	r.practices += f.practices;
-	r.acres += f.acres;
-	r.cost += f.cost;
-	r.cost_share += f.cost_share;
-	r.n_mean += f.n_mean;
-	r.n_low += f.n_low;
-	r.n_high += f.n_high;
-	r.p_mean += f.p_mean;
-	r.p_low += f.p_low;
-	r.p_high += f.p_high;
+	addFact(into.row, from.row, 1);
 	for (const o of from.ops) into.ops.add(o);
 }
 
@@ -185,31 +193,11 @@ export function aggregateCells(facts: Iterable<CellFact>, only?: ReadonlySet<str
 					}
 					let acc = entry.county.get(countyCell);
 					if (!acc) entry.county.set(countyCell, (acc = newAcc(entry.key, 'county', f.county_fips, f.practice_code)));
-					const r = acc.row;
-					r.practices++;
-					r.acres += f.acres;
-					r.cost += f.cost;
-					r.cost_share += f.cost_share;
-					r.n_mean += f.n_mean;
-					r.n_low += f.n_low;
-					r.n_high += f.n_high;
-					r.p_mean += f.p_mean;
-					r.p_low += f.p_low;
-					r.p_high += f.p_high;
+					addFact(acc.row, f, 1);
 					acc.ops.add(op);
 					let hacc = entry.huc8.get(hucCell);
 					if (!hacc) entry.huc8.set(hucCell, (hacc = newAcc(entry.key, 'huc8', huc, f.practice_code)));
-					const h = hacc.row;
-					h.practices++;
-					h.acres += f.acres;
-					h.cost += f.cost;
-					h.cost_share += f.cost_share;
-					h.n_mean += f.n_mean;
-					h.n_low += f.n_low;
-					h.n_high += f.n_high;
-					h.p_mean += f.p_mean;
-					h.p_low += f.p_low;
-					h.p_high += f.p_high;
+					addFact(hacc.row, f, 1);
 					hacc.ops.add(op);
 				}
 			}
@@ -239,4 +227,157 @@ export function aggregateCells(facts: Iterable<CellFact>, only?: ReadonlySet<str
 		acc.row.operations = acc.ops.size;
 		return acc.row;
 	});
+}
+
+// --- deltas: what a change of some records does to the stored cells ----------------------------------------
+
+/** A cell's identity (its primary key within a method version). */
+export const cellId = (c: Pick<CellRow, 'district_id' | 'fy_basis' | 'basis' | 'fy' | 'geo_level' | 'geo' | 'practice_code'>) =>
+	`${c.district_id}|${c.fy_basis}|${c.basis}|${c.fy}|${c.geo_level}|${c.geo}|${c.practice_code}`;
+
+/** Whether a fact counts in a cell. */
+export function countsIn(
+	f: CellFact,
+	c: Pick<CellRow, 'district_id' | 'fy_basis' | 'basis' | 'fy' | 'geo_level' | 'geo' | 'practice_code'>
+): boolean {
+	if (f.district_id !== c.district_id) return false;
+	if (c.practice_code !== '*' && c.practice_code !== f.practice_code) return false;
+	if (c.geo_level === 'county' ? f.county_fips !== c.geo : c.geo_level === 'huc8' ? (f.huc8 ?? '') !== c.geo : false) return false;
+	const span = f[c.fy_basis];
+	if (c.basis === 'installed') return span.installed === c.fy;
+	return span.first !== null && span.last !== null && span.first <= c.fy && c.fy <= span.last;
+}
+
+/** A delta cell: its row (amounts and practices added, operations filled by `finish`) and, per operation, how
+ * many of the changed records count in it [before, after]. */
+interface DeltaAcc {
+	row: CellRow;
+	ops: Map<string, [number, number]>;
+}
+
+/** An operation whose other records decide some cell's distinct-operation count: see cellDeltas. */
+export interface OperationQuestion {
+	district_id: number;
+	operation_key: string;
+}
+
+/** The cell deltas of a change, once the other records of `operations` are known (see cellDeltas). */
+export interface PendingDeltas {
+	/** Operations some cell might gain or lose, depending on their records outside the change. */
+	operations: OperationQuestion[];
+	/** The deltas, given the facts of the unchanged records of `operations` (others are ignored). */
+	finish(others: Iterable<CellFact>): CellRow[];
+}
+
+/**
+ * What replacing the facts `before` by the facts `after` (the same records, old and new footprints; a new
+ * record has no `before`, a removed one no `after`) adds to each cell: practices and amounts exactly, and
+ * the change in distinct operations. An operation appears in or leaves a cell only when the changed records
+ * of that operation go from none to some counting in it (or back) — and then only if no other record of
+ * the operation counts there, which is why `operations` lists the operations to look up and `finish` takes
+ * the facts of their unchanged records. Cells whose delta is all zeros are left out.
+ */
+export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>): PendingDeltas {
+	// As in aggregateCells: each (fact, FY) goes to its two finest cells; the coarser ones are merged at the end.
+	const byKey = new Map<number, { key: SummaryKey; county: Map<string, DeltaAcc>; huc8: Map<string, DeltaAcc> }>();
+	const fine = (map: Map<string, DeltaAcc>, key: SummaryKey, id: string, level: GeoLevel, geo: string, practice: string) => {
+		let a = map.get(id);
+		if (!a) map.set(id, (a = { row: newAcc(key, level, geo, practice).row, ops: new Map() }));
+		return a;
+	};
+	const count = (a: DeltaAcc, op: string, side: 0 | 1, n: number) => {
+		let c = a.ops.get(op);
+		if (!c) a.ops.set(op, (c = [0, 0]));
+		c[side] += n;
+	};
+	const visit = (f: CellFact, side: 0 | 1) => {
+		const sign = side === 0 ? -1 : 1;
+		const huc = f.huc8 ?? '';
+		const countyCell = `${f.county_fips}|${f.practice_code}`;
+		const hucCell = `${huc}|${f.practice_code}`;
+		for (let b = 0; b < 2; b++) {
+			const fy_basis = FY_BASES[b];
+			const span = f[fy_basis];
+			for (let c = 0; c < 2; c++) {
+				let from: number;
+				let to: number;
+				if (c === 0) from = to = span.installed;
+				else if (span.first === null || span.last === null) continue;
+				else {
+					from = span.first;
+					to = span.last;
+				}
+				for (let fy = from; fy <= to; fy++) {
+					const num = ((f.district_id * 2 + b) * 2 + c) * 10_000 + fy;
+					let entry = byKey.get(num);
+					if (!entry) {
+						entry = { key: { district_id: f.district_id, fy_basis, basis: BASES[c], fy }, county: new Map(), huc8: new Map() };
+						byKey.set(num, entry);
+					}
+					const ca = fine(entry.county, entry.key, countyCell, 'county', f.county_fips, f.practice_code);
+					addFact(ca.row, f, sign);
+					count(ca, f.operation_key, side, 1);
+					const ha = fine(entry.huc8, entry.key, hucCell, 'huc8', huc, f.practice_code);
+					addFact(ha.row, f, sign);
+					count(ha, f.operation_key, side, 1);
+				}
+			}
+		}
+	};
+	for (const f of before) visit(f, 0);
+	for (const f of after) visit(f, 1);
+	const cells: DeltaAcc[] = [];
+	for (const { key, county, huc8 } of byKey.values()) {
+		const merged = new Map<string, DeltaAcc>();
+		const mergeInto = (id: string, level: GeoLevel, geo: string, practice: string, from: DeltaAcc) => {
+			const a = fine(merged, key, id, level, geo, practice);
+			addFact(a.row, from.row, 1);
+			for (const [op, [was, is]] of from.ops) {
+				count(a, op, 0, was);
+				count(a, op, 1, is);
+			}
+		};
+		for (const a of county.values()) {
+			cells.push(a);
+			mergeInto(`c|${a.row.geo}`, 'county', a.row.geo, '*', a);
+			mergeInto(`d|${a.row.practice_code}`, 'district', '', a.row.practice_code, a);
+			mergeInto('d|*', 'district', '', '*', a);
+		}
+		for (const a of huc8.values()) {
+			cells.push(a);
+			mergeInto(`h|${a.row.geo}`, 'huc8', a.row.geo, '*', a);
+		}
+		cells.push(...merged.values());
+	}
+	const asked = new Map<string, OperationQuestion>();
+	for (const { row, ops } of cells)
+		for (const [op, [was, is]] of ops)
+			if ((was === 0) !== (is === 0)) {
+				const k = `${row.district_id}|${op}`;
+				if (!asked.has(k)) asked.set(k, { district_id: row.district_id, operation_key: op });
+			}
+	return {
+		operations: [...asked.values()],
+		finish(others) {
+			const byOperation = new Map<string, CellFact[]>();
+			for (const f of others) {
+				const k = `${f.district_id}|${f.operation_key}`;
+				if (!asked.has(k)) continue;
+				const list = byOperation.get(k);
+				if (list) list.push(f);
+				else byOperation.set(k, [f]);
+			}
+			const out: CellRow[] = [];
+			for (const { row, ops } of cells) {
+				for (const [op, [was, is]] of ops) {
+					if ((was === 0) === (is === 0)) continue;
+					const list = byOperation.get(`${row.district_id}|${op}`);
+					if (list && list.some((f) => countsIn(f, row))) continue;
+					row.operations += is > 0 ? 1 : -1;
+				}
+				if (row.practices !== 0 || row.operations !== 0 || AMOUNTS.some((k) => row[k] !== 0)) out.push(row);
+			}
+			return out;
+		}
+	};
 }

@@ -14,6 +14,7 @@ import { config } from '../config';
 import { logger } from '../log';
 import { queueMail } from '../mail/queue';
 import { tryLockDistrictRecords, upsertRecords, type IncomingRecord, type Outcome } from '../records/upsert';
+import { afterRecordsChanged } from '../records/changes';
 import { getObjectStore } from '../storage/object-store';
 import { checkEventFile, checkFile, declaredCharset, loadCheckContext, type CheckEventOf } from './intake-schema';
 import { loadEventCheckContext } from '../events/context';
@@ -21,6 +22,8 @@ import { upsertEvents } from '../events/upsert';
 import type { PracticeEventV1 } from '$lib/schema/practice-event';
 
 const CHUNK_ROWS = Number(process.env.BATCH_CHUNK_ROWS ?? 1000);
+/** Records per derived-data refresh at the end of a batch. */
+const REFRESH_SLICE = 10_000;
 const FINDINGS_FLUSH = 1000;
 /** Findings stored per batch; more are counted (by code and column) but not listed. */
 export const MAX_STORED_FINDINGS = Number(process.env.MAX_STORED_FINDINGS ?? 100_000);
@@ -180,6 +183,9 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 	// One chunk is written while the next is read and checked (the database works on its own core);
 	// at most one write is in flight, so memory stays at two chunks.
 	let inflight: Promise<void> | null = null;
+	// Records written by the chunks: derived data (rollups, review queue) is refreshed once for all of
+	// them before the batch commits, not once per chunk.
+	const changedIds: string[] = [];
 	const flushChunk = async (trx: Transaction<Database>) => {
 		if (chunk.length === 0) return;
 		const items = chunk;
@@ -188,7 +194,7 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 		const dryRun = !writes || (mode === 'all' && tally.errors > 0) || tally.fileErrors > 0;
 		const previous = inflight;
 		if (previous) await previous;
-		const uctx = { districtId: batch.district_id, batchId, actor: batch.actor, dryRun };
+		const uctx = { districtId: batch.district_id, batchId, actor: batch.actor, dryRun, deferChanges: changedIds };
 		const write = (
 			isEvents
 				? upsertEvents(
@@ -267,6 +273,14 @@ async function processLocked(batchId: string): Promise<ProcessOutcome> {
 		const fileRejected = tally.fileErrors > 0;
 		const rowRejected = tally.rejectedRows;
 		const nothingWritten = fileRejected || (mode === 'all' && tally.errors > 0);
+		if (writes && !nothingWritten && changedIds.length > 0) {
+			// In slices, so memory stays bounded for files of any size (each slice is a complete refresh step).
+			const ids = [...new Set(changedIds)];
+			for (let i = 0; i < ids.length; i += REFRESH_SLICE) {
+				await afterRecordsChanged(trx, ids.slice(i, i + REFRESH_SLICE));
+				await heartbeat(true);
+			}
+		}
 		const rejected = nothingWritten ? tally.rows : Math.min(rowRejected, tally.rows);
 		const accepted = tally.rows - rejected;
 		const committed = writes && !nothingWritten;

@@ -24,6 +24,11 @@ export interface UpsertContext {
 	actor: string;
 	/** `check` mode: classify against the current records but write nothing. */
 	dryRun: boolean;
+	/**
+	 * When given, the ids of changed records are added here instead of calling `afterRecordsChanged`: the
+	 * caller (a batch writing many chunks in one transaction) calls it once for all of them before committing.
+	 */
+	deferChanges?: string[];
 }
 
 export interface UpsertResult {
@@ -220,9 +225,8 @@ export async function upsertRecords(trx: Transaction<Database>, ctx: UpsertConte
 				as u(record_id, version, code, severity, col, value, rule, message)`.execute(trx);
 	}
 
-	await afterRecordsChanged(
-		trx,
-		recordIds.filter((id, i): id is string => id !== null && outcomes[i] !== 'unchanged')
-	);
+	const changed = recordIds.filter((id, i): id is string => id !== null && outcomes[i] !== 'unchanged');
+	if (ctx.deferChanges) ctx.deferChanges.push(...changed);
+	else await afterRecordsChanged(trx, changed);
 	return { outcomes, recordIds };
 }

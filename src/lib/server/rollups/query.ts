@@ -7,7 +7,7 @@ import type { Database } from '../db/schema';
 import type { Principal } from '../auth/principal';
 import { ApiError } from '../http/problem';
 import { fiscalYear } from '$lib/domain/fiscal-year';
-import type { ReductionMethod } from '$lib/domain/reduction-method';
+import { DEFAULT_METHOD, type ReductionMethod } from '$lib/domain/reduction-method';
 import { applySmallCellRule, type BaseCell, type SmallCellCounts } from '$lib/domain/small-cell-rule';
 import {
 	DEFAULT_FY_SPAN,
@@ -130,6 +130,8 @@ function measures(r: MeasureRow) {
 
 export interface CellSource {
 	methodVersion: string;
+	/** Instead of `methodVersion`: SQL giving the method version (the active one, read in the same statement). */
+	methodSql?: RawBuilder<string>;
 	fyBasis: 'state' | 'federal';
 	basis: 'installed' | 'in_service';
 	fy: { from: number; to: number };
@@ -149,7 +151,7 @@ export function sourceLevel(
 
 function where(src: CellSource, geoLevel: string, byPractice: boolean): RawBuilder<unknown> {
 	const parts = [
-		sql`method_version = ${src.methodVersion}`,
+		src.methodSql ? sql`method_version = ${src.methodSql}` : sql`method_version = ${src.methodVersion}`,
 		sql`fy_basis = ${src.fyBasis}`,
 		sql`basis = ${src.basis}`,
 		sql`geo_level = ${geoLevel}`,
@@ -175,10 +177,21 @@ export function groupingSql(g: Grouping, src: CellSource): RawBuilder<MeasureRow
 }
 
 /** Totals per FY, read from the level that covers everything the grouping's cells cover. */
-export function totalsSql(src: CellSource): RawBuilder<MeasureRow & { fy: number }> {
+export function totalsSql(src: CellSource): RawBuilder<MeasureRow & { fy: number; method_version?: string }> {
 	const geoLevel = src.county ? 'county' : 'district';
-	return sql<MeasureRow & { fy: number }>`
-		select fy, ${MEASURES} from rollup_cells where ${where(src, geoLevel, !!src.practice)} group by fy order by fy`;
+	// With `methodSql`, each row also says which method version the statement read.
+	const version = src.methodSql ? sql`, ${src.methodSql} as method_version` : sql``;
+	return sql<MeasureRow & { fy: number; method_version?: string }>`
+		select fy, ${MEASURES}${version} from rollup_cells where ${where(src, geoLevel, !!src.practice)} group by fy order by fy`;
+}
+
+/** The active method version as SQL, read the way getActiveMethodVersion reads it (methods.ts). */
+const ACTIVE_METHOD_SQL = sql<string>`coalesce((select value #>> '{}' from settings
+	where key = ${SETTING_KEYS.activeMethod} and jsonb_typeof(value) = 'string'), ${DEFAULT_METHOD.version})`;
+
+/** The totals and every grouping of a request: independent reads of the summary, run side by side. */
+function readCells(db: Kysely<Database>, src: CellSource, groupings: readonly Grouping[]) {
+	return Promise.all([totalsSql(src).execute(db), ...groupings.map((g) => groupingSql(g, src).execute(db))]);
 }
 
 function notesFor(method: ReductionMethod, q: RollupQuery, startMonth: number, researcher: boolean, k: number): string[] {
@@ -229,6 +242,27 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		throw new ApiError({ status: 403, detail: 'This district account is not bound to a district.' });
 	}
 
+	// When the cells depend on nothing the context decides (FY range given, no district to look up), they are
+	// read alongside it — one round of parallel statements instead of two in a row — and used only if the
+	// context then allows the answer and the statement read the method version the context names.
+	const early =
+		!researcher && q.fy !== null && q.district === null
+			? readCells(
+					db,
+					{
+						methodVersion: q.method ?? '',
+						methodSql: q.method ? undefined : ACTIVE_METHOD_SQL,
+						fyBasis: q.fy_basis,
+						basis: q.basis,
+						fy: q.fy,
+						districtId: principal.role === 'district' ? principal.districtId : null,
+						county: q.county,
+						practice: q.practice
+					},
+					q.groupings
+				)
+			: null;
+	early?.catch(() => {}); // observed here; awaited (or dropped) below
 	// One round trip for settings, summary states and names; the asked district alongside.
 	const [{ settings, states, names }, asked] = await Promise.all([
 		readContext(db),
@@ -292,11 +326,11 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		smallCells = r.counts;
 		groupings.push({ group: ['county', 'fy', 'practice'], cells: r.cells, totals: r.totals });
 	} else {
-		// The totals and every grouping are independent reads of the summary: run them side by side.
-		const [totalRows, ...perGrouping] = await Promise.all([
-			totalsSql(src).execute(db),
-			...q.groupings.map((g) => groupingSql(g, src).execute(db))
-		]);
+		let read = early ? await early : null;
+		// Read again when the early statements saw another method version (switched in between) or no cells.
+		if (!read || read[0].rows.length === 0 || (!q.method && read[0].rows[0].method_version !== version))
+			read = await readCells(db, src, q.groupings);
+		const [totalRows, ...perGrouping] = read;
 		const totals = totalRows.rows.map((t) => ({ fy: Number(t.fy), ...measures(t) }));
 		for (const [gi, g] of q.groupings.entries()) {
 			const rows = perGrouping[gi].rows;
