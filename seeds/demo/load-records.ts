@@ -8,6 +8,8 @@ import type { Principal } from '../../src/lib/server/auth/principal';
 import { createBatch } from '../../src/lib/server/batches/create';
 import { processBatch } from '../../src/lib/server/batches/process';
 import { stopBoss } from '../../src/lib/server/batches/queue';
+import { config } from '../../src/lib/server/config';
+import { listReleases, publishRelease } from '../../src/lib/server/dataset/release';
 import { getDb } from '../../src/lib/server/db';
 import { closeObjectStore } from '../../src/lib/server/storage/object-store';
 import { toCsv } from './csv';
@@ -81,6 +83,8 @@ async function sendFile(
 	log(`demo ${recordType} ${fileName}: ${b.rows} rows, ${b.created} created, ${b.updated} updated, ${b.withdrawn} withdrawn`);
 }
 
+export const DEMO_RELEASE = '2027.1';
+
 export async function seedDemoRecords(log: (m: string) => void = () => {}): Promise<void> {
 	try {
 		for (const d of generateDemoRecords()) {
@@ -91,6 +95,17 @@ export async function seedDemoRecords(log: (m: string) => void = () => {}): Prom
 		}
 		// Upkeep events of the same records, through the same pipeline (type events), after all records.
 		for (const d of generateDemoEvents()) await sendFile(d.district, `${d.district.toLowerCase()}-upkeep.csv`, eventsToCsv(d.rows), log, 'events');
+		// One published research release, so the researcher's page has something to download and verify.
+		const db = getDb();
+		if ((await listReleases(db)).length === 0) {
+			const m = await publishRelease(db, {
+				version: DEMO_RELEASE,
+				notes: 'Demo release: the invented scenario of the six demo districts, for trying downloads and verification.',
+				actor: 'demo seed',
+				origin: config.origin
+			});
+			log(`demo release ${m.version}: ${m.row_count} rows, ${m.files.length} files, signed`);
+		}
 	} finally {
 		await stopBoss();
 		await closeObjectStore();

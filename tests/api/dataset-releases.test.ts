@@ -45,6 +45,22 @@ afterAll(async () => {
 	await closeDb();
 });
 
+describe('the demo scenario', () => {
+	it('carries release 2027.1, published and signed: the researcher lists it and its manifest verifies with the JWKS', async () => {
+		const list = await request(handler).get('/api/v1/dataset/releases').set(bearer(DEMO_TOKENS.researcher));
+		expect(list.status).toBe(200);
+		const demo = list.body.data.find((r: { version: string }) => r.version === '2027.1');
+		expect(demo).toMatchObject({ version: '2027.1', status: 'published' });
+		const one = await request(handler).get('/api/v1/dataset/releases/2027.1').set(bearer(DEMO_TOKENS.researcher));
+		expect(one.status).toBe(200);
+		const jwks = (await request(handler).get('/.well-known/jwks.json')).body;
+		const { payload } = await compactVerify(one.body.manifest_jws, createLocalJWKSet(jwks));
+		const manifest = JSON.parse(new TextDecoder().decode(payload));
+		expect(manifest.version).toBe('2027.1');
+		expect(manifest.row_count).toBeGreaterThan(1000);
+	});
+});
+
 describe('publishing', () => {
 	it('a researcher or district token may not publish; a manager token publishes; the version is frozen', async () => {
 		const r = await request(handler).post('/api/v1/dataset/releases').set(bearer(DEMO_TOKENS.researcher)).send({ version: VERSION });
