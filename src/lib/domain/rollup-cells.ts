@@ -88,6 +88,35 @@ export function keysOf(f: Pick<CellFact, 'district_id' | 'state' | 'federal'>): 
 const FY_BASES: readonly FyBasisName[] = ['state', 'federal'];
 const BASES: readonly CountBasisName[] = ['installed', 'in_service'];
 
+/**
+ * Calls `visit` with the entry of each summary key a fact counts in, made by `make` on first use (null: skip
+ * the key). Entries are keyed by a number so the hot loops of aggregateCells and cellDeltas build no strings.
+ */
+function forEachEntry<E>(byKey: Map<number, E>, f: CellFact, make: (key: SummaryKey) => E | null, visit: (entry: E) => void): void {
+	for (let b = 0; b < 2; b++) {
+		const fy_basis = FY_BASES[b];
+		const span = f[fy_basis];
+		for (let c = 0; c < 2; c++) {
+			let from: number;
+			let to: number;
+			if (c === 0) from = to = span.installed;
+			else if (span.first === null || span.last === null) continue;
+			else {
+				from = span.first;
+				to = span.last;
+			}
+			for (let fy = from; fy <= to; fy++) {
+				const num = ((f.district_id * 2 + b) * 2 + c) * 10_000 + fy;
+				const existing = byKey.get(num);
+				const entry = existing ?? make({ district_id: f.district_id, fy_basis, basis: BASES[c], fy });
+				if (entry == null) continue;
+				if (existing === undefined) byKey.set(num, entry);
+				visit(entry);
+			}
+		}
+	}
+}
+
 interface Acc {
 	row: CellRow;
 	ops: Set<number>;
@@ -169,39 +198,21 @@ export function aggregateCells(facts: Iterable<CellFact>, only?: ReadonlySet<str
 		const huc = f.huc8 ?? '';
 		const countyCell = `${f.county_fips}|${f.practice_code}`;
 		const hucCell = `${huc}|${f.practice_code}`;
-		for (let b = 0; b < 2; b++) {
-			const fy_basis = FY_BASES[b];
-			const span = f[fy_basis];
-			for (let c = 0; c < 2; c++) {
-				const basis = BASES[c];
-				let from: number;
-				let to: number;
-				if (c === 0) from = to = span.installed;
-				else if (span.first === null || span.last === null) continue;
-				else {
-					from = span.first;
-					to = span.last;
-				}
-				for (let fy = from; fy <= to; fy++) {
-					const num = ((f.district_id * 2 + b) * 2 + c) * 10_000 + fy;
-					let entry = byKey.get(num);
-					if (!entry) {
-						const key: SummaryKey = { district_id: f.district_id, fy_basis, basis, fy };
-						if (only && !only.has(summaryKeyId(key))) continue;
-						entry = { key, county: new Map(), huc8: new Map() };
-						byKey.set(num, entry);
-					}
-					let acc = entry.county.get(countyCell);
-					if (!acc) entry.county.set(countyCell, (acc = newAcc(entry.key, 'county', f.county_fips, f.practice_code)));
-					addFact(acc.row, f, 1);
-					acc.ops.add(op);
-					let hacc = entry.huc8.get(hucCell);
-					if (!hacc) entry.huc8.set(hucCell, (hacc = newAcc(entry.key, 'huc8', huc, f.practice_code)));
-					addFact(hacc.row, f, 1);
-					hacc.ops.add(op);
-				}
+		forEachEntry(
+			byKey,
+			f,
+			(key) => (only && !only.has(summaryKeyId(key)) ? null : { key, county: new Map(), huc8: new Map() }),
+			(entry) => {
+				let acc = entry.county.get(countyCell);
+				if (!acc) entry.county.set(countyCell, (acc = newAcc(entry.key, 'county', f.county_fips, f.practice_code)));
+				addFact(acc.row, f, 1);
+				acc.ops.add(op);
+				let hacc = entry.huc8.get(hucCell);
+				if (!hacc) entry.huc8.set(hucCell, (hacc = newAcc(entry.key, 'huc8', huc, f.practice_code)));
+				addFact(hacc.row, f, 1);
+				hacc.ops.add(op);
 			}
-		}
+		);
 	}
 	const out: Acc[] = [];
 	for (const { key, county, huc8 } of byKey.values()) {
@@ -295,34 +306,19 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 		const huc = f.huc8 ?? '';
 		const countyCell = `${f.county_fips}|${f.practice_code}`;
 		const hucCell = `${huc}|${f.practice_code}`;
-		for (let b = 0; b < 2; b++) {
-			const fy_basis = FY_BASES[b];
-			const span = f[fy_basis];
-			for (let c = 0; c < 2; c++) {
-				let from: number;
-				let to: number;
-				if (c === 0) from = to = span.installed;
-				else if (span.first === null || span.last === null) continue;
-				else {
-					from = span.first;
-					to = span.last;
-				}
-				for (let fy = from; fy <= to; fy++) {
-					const num = ((f.district_id * 2 + b) * 2 + c) * 10_000 + fy;
-					let entry = byKey.get(num);
-					if (!entry) {
-						entry = { key: { district_id: f.district_id, fy_basis, basis: BASES[c], fy }, county: new Map(), huc8: new Map() };
-						byKey.set(num, entry);
-					}
-					const ca = fine(entry.county, entry.key, countyCell, 'county', f.county_fips, f.practice_code);
-					addFact(ca.row, f, sign);
-					count(ca, f.operation_key, side, 1);
-					const ha = fine(entry.huc8, entry.key, hucCell, 'huc8', huc, f.practice_code);
-					addFact(ha.row, f, sign);
-					count(ha, f.operation_key, side, 1);
-				}
+		forEachEntry(
+			byKey,
+			f,
+			(key) => ({ key, county: new Map(), huc8: new Map() }),
+			(entry) => {
+				const ca = fine(entry.county, entry.key, countyCell, 'county', f.county_fips, f.practice_code);
+				addFact(ca.row, f, sign);
+				count(ca, f.operation_key, side, 1);
+				const ha = fine(entry.huc8, entry.key, hucCell, 'huc8', huc, f.practice_code);
+				addFact(ha.row, f, sign);
+				count(ha, f.operation_key, side, 1);
 			}
-		}
+		);
 	};
 	for (const f of before) visit(f, 0);
 	for (const f of after) visit(f, 1);
