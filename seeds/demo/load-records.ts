@@ -11,6 +11,8 @@ import { stopBoss } from '../../src/lib/server/batches/queue';
 import { config } from '../../src/lib/server/config';
 import { listReleases, publishRelease } from '../../src/lib/server/dataset/release';
 import { getDb } from '../../src/lib/server/db';
+import { getActiveMethodVersion } from '../../src/lib/server/methods';
+import { rebuildMethod } from '../../src/lib/server/rollups/refresh';
 import { closeObjectStore } from '../../src/lib/server/storage/object-store';
 import { toCsv } from './csv';
 import { flaggedDemoRows } from './flagged';
@@ -98,6 +100,8 @@ export async function seedDemoRecords(log: (m: string) => void = () => {}): Prom
 		// One published research release, so the researcher's page has something to download and verify.
 		const db = getDb();
 		if ((await listReleases(db)).length === 0) {
+			// The estimates a release is made of (the app's rollup service would build them on its first start).
+			await rebuildMethod(db, await getActiveMethodVersion(db));
 			const m = await publishRelease(db, {
 				version: DEMO_RELEASE,
 				notes: 'Demo release: the invented scenario of the six demo districts, for trying downloads and verification.',
