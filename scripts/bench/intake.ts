@@ -113,6 +113,19 @@ function cpuMeter(postmaster: number, s3Pid: number) {
 	};
 }
 
+/** The admin client the intake benchmarks send batches as. */
+export const BENCH_PRINCIPAL = {
+	kind: 'client' as const,
+	userId: null,
+	email: null,
+	name: 'Benchmark',
+	role: 'admin' as const,
+	districtId: null,
+	scopes: ['records:write' as const],
+	credentialId: 'bench',
+	expiresAt: null
+};
+
 export async function run(): Promise<void> {
 	const s3 = await startFakeS3Process();
 	Object.assign(process.env, s3.env);
@@ -162,17 +175,7 @@ export async function run(): Promise<void> {
 			client.release();
 		}
 
-		const principal = {
-			kind: 'client' as const,
-			userId: null,
-			email: null,
-			name: 'Benchmark',
-			role: 'admin' as const,
-			districtId: null,
-			scopes: ['records:write' as const],
-			credentialId: 'bench',
-			expiresAt: null
-		};
+		const principal = BENCH_PRINCIPAL;
 		const send = (key: string) =>
 			measure(async () => {
 				const answer = await createBatch(principal, {

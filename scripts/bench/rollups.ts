@@ -11,6 +11,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { sql } from 'kysely';
 import { stringify } from 'csv-stringify/sync';
+import { BENCH_PRINCIPAL } from './intake';
 import { build, buildIsStale } from '../lib/build';
 import { ROOT } from '../lib/env';
 import { startFakeS3Process } from '../lib/fake-s3';
@@ -241,21 +242,11 @@ export async function run(): Promise<void> {
 	// Each round sends one CSV file to district D153 (8,000 new records, 2,000 changed ones: their acres + 1)
 	// through createBatch + processBatch — upload to a temp file, archive in object storage, stream back,
 	// parse, check, write in 1,000-row chunks — and times the whole intake. The summary refresh runs inside
-	// it (afterRecordsChanged, once per written chunk); its own time is read from refreshClock.
+	// it (afterRecordsChanged, once per batch before it commits); its own time is read from refreshClock.
 	const district = await db.selectFrom('districts').select(['id', 'code']).where('code', '=', 'D153').executeTakeFirstOrThrow();
 	const runId = Date.now().toString(36);
 	const tmp = mkdtempSync(path.join(os.tmpdir(), 'runnel-bench-rollups-'));
-	const admin = {
-		kind: 'client' as const,
-		userId: null,
-		email: null,
-		name: 'Benchmark',
-		role: 'admin' as const,
-		districtId: null,
-		scopes: ['records:write' as const],
-		credentialId: 'bench',
-		expiresAt: null
-	};
+	const admin = BENCH_PRINCIPAL;
 	const num = (v: unknown) => (v === null || v === undefined ? '' : String(v));
 	const batch = async (round: number) => {
 		const { rows: existing } = await sql<Record<string, string | null>>`

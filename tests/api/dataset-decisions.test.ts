@@ -13,6 +13,7 @@ import { datasetContext } from '$lib/server/dataset/source';
 import { getActiveMethodVersion } from '$lib/server/methods';
 import { rebuildMethod } from '$lib/server/rollups/refresh';
 import { createDistrict, insertRecords } from '../helpers/rollup-fixtures';
+import { readSmallCellK, restoreSmallCellK, setSmallCellK } from '../helpers/small-cell-scenarios';
 
 process.env.ROLLUP_POLL_MS = '3600000';
 const db = getDb();
@@ -21,7 +22,7 @@ let savedK: unknown;
 
 beforeAll(async () => {
 	await rebuildMethod(db, await getActiveMethodVersion(db));
-	savedK = (await db.selectFrom('settings').select('value').where('key', '=', 'small_cell_k').executeTakeFirst())?.value;
+	savedK = await readSmallCellK(db);
 	const a = await createDistrict(db, 'DDEA', 'Decision check district A', 'DC North', ['19033', '19035']);
 	const b = await createDistrict(db, 'DDEB', 'Decision check district B', 'DC North', ['19037']);
 	const c = await createDistrict(db, 'DDEC', 'Decision check district C', 'DC South', ['19039', '19041']);
@@ -37,13 +38,7 @@ beforeAll(async () => {
 	);
 }, 120_000);
 afterAll(async () => {
-	if (savedK === undefined) await db.deleteFrom('settings').where('key', '=', 'small_cell_k').execute();
-	else
-		await db
-			.updateTable('settings')
-			.set({ value: JSON.stringify(savedK) })
-			.where('key', '=', 'small_cell_k')
-			.execute();
+	await restoreSmallCellK(db, savedK);
 	await closeDb();
 });
 
@@ -101,11 +96,7 @@ describe('the decisions from SQL aggregates equal the in-memory rule', () => {
 			fc.asyncProperty(scenario, async ({ k, records }) => {
 				run++;
 				const fy0 = 1800 + run * 3;
-				await db
-					.insertInto('settings')
-					.values({ key: 'small_cell_k', value: JSON.stringify(k) })
-					.onConflict((oc) => oc.column('key').doUpdateSet({ value: JSON.stringify(k) }))
-					.execute();
+				await setSmallCellK(db, k);
 				const byDistrict = new Map<number, Parameters<typeof insertRecords>[2]>();
 				records.forEach((r, i) => {
 					const { id, county } = districts[r.where];

@@ -139,15 +139,7 @@ function newAcc(
 			practice_code,
 			practices: 0,
 			operations: 0,
-			acres: 0,
-			cost: 0,
-			cost_share: 0,
-			n_mean: 0,
-			n_low: 0,
-			n_high: 0,
-			p_mean: 0,
-			p_low: 0,
-			p_high: 0
+			...zeroAmounts()
 		},
 		ops: new Set()
 	};
@@ -156,6 +148,18 @@ function newAcc(
 /** The integer amounts a fact adds to each cell it counts in. */
 export const AMOUNTS = ['acres', 'cost', 'cost_share', 'n_mean', 'n_low', 'n_high', 'p_mean', 'p_low', 'p_high'] as const;
 type Amounts = Pick<CellRow, (typeof AMOUNTS)[number]>;
+
+export const zeroAmounts = (): Amounts => ({
+	acres: 0,
+	cost: 0,
+	cost_share: 0,
+	n_mean: 0,
+	n_low: 0,
+	n_high: 0,
+	p_mean: 0,
+	p_low: 0,
+	p_high: 0
+});
 
 /** Adds `sign` × (one practice and the amounts of `f`) to a cell row. */
 function addFact(r: CellRow, f: Amounts & { practices?: number }, sign: number): void {

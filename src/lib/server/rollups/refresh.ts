@@ -22,6 +22,7 @@ import { recordFacts, type FactRecord, type RecordFact } from '$lib/domain/rollu
 import {
 	aggregateCells,
 	AMOUNTS,
+	zeroAmounts,
 	cellDeltas,
 	cellId,
 	summaryKeyId,
@@ -282,15 +283,7 @@ async function loadOperationFootprints(
 				operation_key: r.operation_key,
 				state: { installed: Number(si), first: fy(sf), last: fy(sl) },
 				federal: { installed: Number(fi), first: fy(ff), last: fy(fl) },
-				acres: 0,
-				cost: 0,
-				cost_share: 0,
-				n_mean: 0,
-				n_low: 0,
-				n_high: 0,
-				p_mean: 0,
-				p_low: 0,
-				p_high: 0
+				...zeroAmounts()
 			});
 		}
 	}
