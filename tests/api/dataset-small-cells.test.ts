@@ -42,6 +42,10 @@ afterAll(async () => {
 
 let run = 0;
 let publishedRows = 0;
+const sureToPublish = {
+	k: 2,
+	records: ['o1', 'o2', 'o3', 'o4'].map((operation, i) => ({ where: 0, practice_code: '340', fyOffset: 0, operation, acres: 10 + i }))
+};
 
 async function readCsv(version: string): Promise<Record<string, string>[]> {
 	const chunks: Buffer[] = [];
@@ -95,7 +99,9 @@ describe('every release keeps every published group at k distinct operations or 
 					expect(rows.some((r) => r.county_fips === county && r.fy_installed === fy && r.practice_code === practice)).toBe(false);
 				}
 			}),
-			{ numRuns: 6 }
+			// The first example is sure to publish county cells (four operations in one cell at k = 2), so the
+			// guard below never depends on what the random runs happen to draw.
+			{ numRuns: 6, examples: [[sureToPublish]] }
 		);
 		expect(publishedRows, 'some scenario rows were published at all').toBeGreaterThan(0);
 	}, 300_000);
