@@ -14,7 +14,7 @@ import { getActiveMethodVersion } from '$lib/server/methods';
 import { rebuildMethod } from '$lib/server/rollups/refresh';
 import { getObjectStore } from '$lib/server/storage/object-store';
 import { createDistrict, insertRecords } from '../helpers/rollup-fixtures';
-import { layOut, readSmallCellK, restoreSmallCellK, scenario, setSmallCellK } from '../helpers/small-cell-scenarios';
+import { layOut, readSmallCellK, restoreSmallCellK, scenario, setSmallCellK, type ScenarioRecord } from '../helpers/small-cell-scenarios';
 
 process.env.ROLLUP_POLL_MS = '3600000';
 const db = getDb();
@@ -42,9 +42,15 @@ afterAll(async () => {
 
 let run = 0;
 let publishedRows = 0;
-const sureToPublish = {
+const sureToPublish: { k: number; records: ScenarioRecord[] } = {
 	k: 2,
-	records: ['o1', 'o2', 'o3', 'o4'].map((operation, i) => ({ where: 0, practice_code: '340', fyOffset: 0, operation, acres: 10 + i }))
+	records: (['o1', 'o2', 'o3', 'o4'] as const).map((operation, i) => ({
+		where: 0,
+		practice_code: '340',
+		fyOffset: 0,
+		operation,
+		acres: 10 + i
+	}))
 };
 
 async function readCsv(version: string): Promise<Record<string, string>[]> {
