@@ -16,6 +16,7 @@ import pg from 'pg';
 import { to as copyTo } from 'pg-copy-streams';
 import { sql, type Kysely } from 'kysely';
 import { build, buildIsStale } from '../lib/build';
+import { hmacPads } from '../../src/lib/server/dataset/pseudonym';
 import { ROOT } from '../lib/env';
 
 const log = (m: string) => console.error(m);
@@ -65,8 +66,12 @@ async function generate(db: Kysely<any>, upTo: number, methodVersion: string): P
 				where g > 0
 			) as x
 			join practices p on p.code = x.code`.execute(db);
-		// Stored estimates with invented efficiencies (what the rollups service would have written).
-		await sql`
+		// Stored estimates with invented efficiencies (what the rollups service would have written), with the
+		// pseudonym key in the transaction as the rollups service has it, so each row gets its pid as it is written.
+		await db.transaction().execute(async (trx) => {
+			const { ipad, opad } = await hmacPads(trx as unknown as Parameters<typeof hmacPads>[0]);
+			await sql`select set_config('runnel.dataset_ipad', ${ipad}, true), set_config('runnel.dataset_opad', ${opad}, true)`.execute(trx);
+			await sql`
 			insert into record_estimates (record_id, method_version, counted, credited_acres, n_lb_mean, n_lb_low, n_lb_high,
 				p_lb_mean, p_lb_low, p_lb_high, district_id, county_fips, huc8, practice_code, field_id, operation_key,
 				cost_usd, state_fy_start_month, state_fy_installed, state_fy_first, state_fy_last,
@@ -78,7 +83,8 @@ async function generate(db: Kysely<any>, upTo: number, methodVersion: string): P
 			cross join lateral (select coalesce(r.extent_acres, r.drainage_area_acres) as acres) a
 			cross join lateral (select extract(year from r.installed_on + interval '6 months')::int as fy,
 				extract(year from r.installed_on + interval '3 months')::int as ffy) f
-			where r.local_id like 'DS%' and substr(r.local_id, 3)::int between ${start} and ${end}`.execute(db);
+			where r.local_id like 'DS%' and substr(r.local_id, 3)::int between ${start} and ${end}`.execute(trx);
+		});
 		log(`  ${end.toLocaleString('en-US')}`);
 	}
 	await sql`analyze`.execute(db);

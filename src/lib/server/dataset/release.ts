@@ -22,7 +22,7 @@ import { logger } from '../log';
 import { queueMail } from '../mail/queue';
 import { getObjectStore } from '../storage/object-store';
 import { csvHeader, csvLines, ndjsonLines } from './encode';
-import { datasetContext, datasetRows, kyselyExec, prepare } from './source';
+import { datasetContext, datasetRows, fillPids, kyselyExec, prepare } from './source';
 
 export const MANIFEST_TYP = 'runnel-manifest+jws';
 
@@ -134,6 +134,7 @@ export async function publishRelease(
 	const dir = await mkdtemp(path.join(tmpdir(), 'runnel-release-'));
 	try {
 		const published_at = new Date().toISOString();
+		await fillPids(db);
 		const { ctx, rowCount } = await db
 			.transaction()
 			.setIsolationLevel('repeatable read')

@@ -1,20 +1,23 @@
 // Reading the research dataset from the database: per-cell aggregates for the small-cell rule (computed in
-// SQL, a few thousand rows), then the published rows themselves, computed by PostgreSQL from those decisions
-// (the rule's outcome per cell, the funding categories and the pseudonym key are handed to the query as
-// transaction-local settings) and streamed: COPY for CSV, keyset batches for the rest, so no export holds
-// the whole result and the app does not decode and re-encode every row.
+// SQL, a few thousand rows), then the published rows themselves, read by PostgreSQL with those decisions
+// (the rule's outcome per cell and the funding categories are handed to the query as transaction-local
+// settings) and streamed: COPY for CSV, keyset batches for the rest, so no export holds the whole result and
+// the app does not decode and re-encode every row.
+// What does not depend on the decisions — the pseudonymous id, rounded acres and estimates, install year and
+// month — is stored with each estimate when it is written (migration 2026-12-05T0100_dataset_published), so
+// an export reads it rather than computing it for every row again.
 // The published row is specified by `toRow` in src/lib/domain/anonymise.ts; `publishedSelect` below is its
 // SQL form, and tests/api/dataset-sql-rows.test.ts holds the two equal on random records.
 // Source: record_estimates under the active reduction method (state fiscal years), the record's install
 // date and funding program, the district's region and the practice name. Records count when installed
 // (not withdrawn) or when they were in service in some fiscal year.
+import { createHash } from 'node:crypto';
 import { Readable } from 'node:stream';
 import { CompiledQuery, sql, type Kysely } from 'kysely';
 import type pg from 'pg';
 import { to as copyTo } from 'pg-copy-streams';
 import {
 	DATASET_COLUMNS,
-	ROUND_TO_5_FROM,
 	decideCellAggregates,
 	fundingCategory,
 	type AnonymiseCounts,
@@ -53,7 +56,8 @@ export interface DatasetContext {
 
 type SessionSetting = 'cells' | 'funding' | 'ipad' | 'opad';
 
-const INCLUDED = sql`(r.status = 'installed' or e.state_fy_first is not null)`;
+/** Part of the dataset: installed (not withdrawn), or in service in some fiscal year (stored with the estimate). */
+const INCLUDED = sql`e.pub_included`;
 
 async function rules(db: Kysely<Database>): Promise<{ k: number; dominance: number }> {
 	const s = await readSettings(db, [SETTING_KEYS.smallCellK, DOMINANCE_SETTING]);
@@ -89,7 +93,7 @@ async function cellAggregates(db: Kysely<Database>, version: string): Promise<Ce
 		with ops as (
 			select e.county_fips, e.state_fy_installed as fy, e.practice_code, coalesce(e.huc8, '') as huc8, e.operation_key,
 				min(d.region collate "C") as region, greatest(sum(e.credited_acres), 0) as acres, count(*)::int as records
-			from record_estimates e join records r on r.id = e.record_id join districts d on d.id = e.district_id
+			from record_estimates e join districts d on d.id = e.district_id
 			where e.method_version = ${version} and ${INCLUDED}
 			group by 1, 2, 3, 4, 5
 		), cell_ops as (
@@ -143,7 +147,7 @@ async function poolStats(db: Kysely<Database>, version: string, pools: readonly 
 			select * from unnest(${county}::text[], ${fy}::int[], ${practice}::text[], ${key}::text[]) as m(county_fips, fy, practice_code, pool)
 		), ops as (
 			select m.pool, e.operation_key, greatest(sum(e.credited_acres), 0) as acres
-			from record_estimates e join records r on r.id = e.record_id
+			from record_estimates e
 				join members m on m.county_fips = e.county_fips and m.fy = e.state_fy_installed and m.practice_code = e.practice_code
 			where e.method_version = ${version} and ${INCLUDED}
 			group by m.pool, e.county_fips, e.state_fy_installed, e.practice_code, coalesce(e.huc8, ''), e.operation_key
@@ -155,6 +159,44 @@ async function poolStats(db: Kysely<Database>, version: string, pools: readonly 
 }
 
 let cache: { stamp: string; ctx: DatasetContext } | null = null;
+
+const PID_FINGERPRINT = 'dataset_pid_fingerprint';
+/** Advisory lock of the pid fill ('RNPD'). */
+const PID_LOCK = 0x524e5044;
+
+/** The pseudonym as SQL over `id` (text) with the HMAC pads as bytea SQL expressions (see hmacPads). */
+const hmacSql = (id: string, ipad: string, opad: string) =>
+	`encode(sha256(${opad} || sha256(${ipad} || convert_to(${id}, 'UTF8'))), 'hex')`;
+
+/**
+ * Stores the pid of every estimate row written without one (rows written by the rollup service carry theirs;
+ * rows from before the column, or written by other means, do not). When the pseudonym key has changed since
+ * the stored pids were made, every pid is made again.
+ */
+export async function fillPids(db: Kysely<Database>): Promise<void> {
+	const pads = await hmacPads(db);
+	const fingerprint = createHash('sha256').update(`${pads.ipad}:${pads.opad}`).digest('hex').slice(0, 16);
+	const fill = async (trx: Kysely<Database>) => {
+		await sql`select pg_advisory_xact_lock(${PID_LOCK})`.execute(trx);
+		await sql`set local jit = off`.execute(trx);
+		const stored = await trx.selectFrom('settings').select('value').where('key', '=', PID_FINGERPRINT).executeTakeFirst();
+		if (stored?.value !== fingerprint) {
+			await sql`update record_estimates set pub_pid = null where pub_pid is not null`.execute(trx);
+			await trx
+				.insertInto('settings')
+				.values({ key: PID_FINGERPRINT, value: JSON.stringify(fingerprint) })
+				.onConflict((oc) => oc.column('key').doUpdateSet({ value: JSON.stringify(fingerprint) }))
+				.execute();
+		}
+		await sql
+			.raw(
+				`update record_estimates set pub_pid = ${hmacSql('record_id::text', `decode(${lit(pads.ipad)}, 'hex')`, `decode(${lit(pads.opad)}, 'hex')`)} where pub_pid is null`
+			)
+			.execute(trx);
+	};
+	if (db.isTransaction) await fill(db);
+	else await db.transaction().execute(fill);
+}
 
 /**
  * The cell decisions for the whole dataset (never for a filtered part), cached until the estimates, the
@@ -169,6 +211,9 @@ export async function datasetContext(db: Kysely<Database>, methodVersion?: strin
 		from record_estimates where method_version = ${version}`.execute(db);
 	const stamp = `${version}|${k}|${dominance}|${stampRow.rows[0]?.stamp}`;
 	if (cache?.stamp === stamp) return cache.ctx;
+	// Inside a caller's transaction the caller has filled them first (publishRelease); rows still without one
+	// get theirs computed by the query.
+	if (!db.isTransaction) await fillPids(db);
 	const steps = decideCellAggregates(await cellAggregates(db, version), { k, dominance });
 	let step = steps.next();
 	while (!step.done) step = steps.next(await poolStats(db, version, step.value));
@@ -185,8 +230,7 @@ export async function datasetContext(db: Kysely<Database>, methodVersion?: strin
 		db
 	);
 	const funding = Object.fromEntries(programs.rows.map((r) => [r.p, fundingCategory(r.p)]));
-	const pads = await hmacPads(db);
-	const session = { cells: JSON.stringify(cells), funding: JSON.stringify(funding), ...pads };
+	const session = { cells: JSON.stringify(cells), funding: JSON.stringify(funding), ...(await hmacPads(db)) };
 	const ctx: DatasetContext = { methodVersion: version, k, dominance, decisions, counts, session };
 	cache = { stamp, ctx };
 	return ctx;
@@ -242,15 +286,10 @@ const SETTING = {
 	opad: `(select decode(current_setting('runnel.dataset_opad'), 'hex'))`
 };
 
-/** JavaScript's Math.round (halves up, toward +∞) on a float8 expression. */
-const jsRound = (x: string) => `(floor(${x}) + case when (${x}) - floor(${x}) >= 0.5 then 1 else 0 end)`;
-/** `round1` of toRow: Math.round(x * 10) / 10 in float8. */
-const round1 = (x: string) => `(${jsRound(`(${x}) * 10`)} / 10)`;
-
 /** The SQL expression of each published column (toRow in src/lib/domain/anonymise.ts, in SQL). */
 function columnSql(ctx: DatasetContext): Record<(typeof DATASET_COLUMNS)[number], string> {
 	return {
-		pid: `encode(sha256(${SETTING.opad} || sha256(${SETTING.ipad} || convert_to(s.record_id::text, 'UTF8'))), 'hex')`,
+		pid: `coalesce(s.pub_pid, ${hmacSql('s.record_id::text', SETTING.ipad, SETTING.opad)})`,
 		practice_code: 's.practice_code',
 		practice_name: 's.practice_name',
 		area_level: 's.level',
@@ -258,74 +297,65 @@ function columnSql(ctx: DatasetContext): Record<(typeof DATASET_COLUMNS)[number]
 		region: `case when s.level = 'region' then s.region end`,
 		state_fips: 'substr(s.county_fips, 1, 2)',
 		huc8: `case when s.level = 'county' and s.show_huc8 and s.huc8 ~ '^[0-9]{8}$' then s.huc8 end`,
-		install_year: `date_part('year', s.installed_on)::int`,
-		install_month: `date_part('month', s.installed_on)::int`,
+		install_year: 's.pub_install_year',
+		install_month: 's.pub_install_month',
 		fy_installed: 's.state_fy_installed',
 		fy_in_service_first: 's.state_fy_first',
 		fy_in_service_last: 's.state_fy_last',
-		credited_acres: 's.acres',
-		n_lb_mean: round1('s.n_lb_mean * s.scale'),
-		n_lb_low: round1('s.n_lb_low * s.scale'),
-		n_lb_high: round1('s.n_lb_high * s.scale'),
-		p_lb_mean: round1('s.p_lb_mean * s.scale'),
-		p_lb_low: round1('s.p_lb_low * s.scale'),
-		p_lb_high: round1('s.p_lb_high * s.scale'),
+		credited_acres: 's.pub_acres',
+		n_lb_mean: 's.pub_n_mean',
+		n_lb_low: 's.pub_n_low',
+		n_lb_high: 's.pub_n_high',
+		p_lb_mean: 's.pub_p_mean',
+		p_lb_low: 's.pub_p_low',
+		p_lb_high: 's.pub_p_high',
 		method_version: lit(ctx.methodVersion),
-		funding_category: `case when s.funding_program is null then 'not_reported' else ${SETTING.funding} ->> s.funding_program end`
+		funding_category: `case when s.pub_funding_program is null then 'not_reported' else ${SETTING.funding} ->> s.pub_funding_program end`
 	};
 }
 
 /**
  * The dataset's rows in record order as one SELECT, every value inlined as a literal (COPY takes no
- * parameters). The rows are cut from record_estimates by its (method_version, record_id) index first, so a
- * batch costs the same however far into the dataset it is, and the only join is to the record itself (the
- * cells, practice names and funding categories are looked up in the prepared settings). Without `limit`
- * only published rows come back; with it, every row of the cut does, with `record_id` (the keyset position)
- * and `keep` (false: not part of the dataset, or in a suppressed cell), so pages advance past left-out rows.
+ * parameters). The rows are cut from record_estimates by its (method_version, record_id) index and read
+ * from it alone: the per-record values are stored there (see the top of this file), and the cells, practice
+ * names and funding categories are looked up in the prepared settings. Only rows that are part of the
+ * dataset (installed, or in service in some FY) are read. Without `limit` only published rows come back;
+ * with it, every such row of the cut does, with `record_id` (the keyset position) and `keep` (false: in a
+ * suppressed cell), so pages advance past left-out rows.
  */
 export function publishedSelect(
 	ctx: DatasetContext,
 	filter: DatasetFilter,
 	opts: { afterId?: string | null; limit?: number } = {}
 ): string {
-	const where = [`method_version = ${lit(ctx.methodVersion)}`];
+	const where = [`e.method_version = ${lit(ctx.methodVersion)}`, 'e.pub_included'];
 	if (opts.afterId != null) {
 		if (!/^\d+$/.test(opts.afterId)) throw new RangeError(`not a record id: ${opts.afterId}`);
-		where.push(`record_id > ${opts.afterId}`);
+		where.push(`e.record_id > ${opts.afterId}`);
 	}
-	if (filter.practice) where.push(`practice_code = ${lit(filter.practice)}`);
-	if (filter.county) where.push(`county_fips = ${lit(filter.county)}`);
-	if (filter.fy != null) where.push(`state_fy_first <= ${int(filter.fyTo ?? filter.fy)} and state_fy_last >= ${int(filter.fy)}`);
-	const keep = `(s.status = 'installed' or s.state_fy_first is not null) and s.level is not null${filter.county ? ` and s.level = 'county'` : ''}`;
+	if (filter.practice) where.push(`e.practice_code = ${lit(filter.practice)}`);
+	if (filter.county) where.push(`e.county_fips = ${lit(filter.county)}`);
+	if (filter.fy != null) where.push(`e.state_fy_first <= ${int(filter.fyTo ?? filter.fy)} and e.state_fy_last >= ${int(filter.fy)}`);
+	const keep = `s.level is not null${filter.county ? ` and s.level = 'county'` : ''}`;
 	const columns = columnSql(ctx);
 	const select = DATASET_COLUMNS.map((c) => `${columns[c]} as ${c}`);
 	if (opts.limit != null) select.push('s.record_id::text as record_id', `coalesce(${keep}, false) as keep`);
-	// Each layer is fenced (offset 0) so PostgreSQL computes its values once a row instead of copying the
-	// expressions into every use above; each keeps the record order, so no layer sorts.
+	// Each layer is fenced (offset 0) so PostgreSQL looks the cell up once a row instead of copying the
+	// expression into every use above; each keeps the record order, so no layer sorts.
 	return `select ${select.join(',\n\t\t\t')}
 		from (
-			select s2.*, case when s2.exact > 0 then s2.acres / s2.exact else 0 end as scale
+			select s1.*, s1.d ->> 0 as level, s1.d ->> 1 as region, (s1.d ->> 2)::boolean as show_huc8, s1.d ->> 3 as practice_name
 			from (
-				select s1.*, s1.d ->> 0 as level, s1.d ->> 1 as region, (s1.d ->> 2)::boolean as show_huc8, s1.d ->> 3 as practice_name,
-					case when not (s1.exact > 0) then 0::float8
-					when ${jsRound('s1.exact')} < ${ROUND_TO_5_FROM} then ${jsRound('s1.exact')}
-					else ${jsRound('s1.exact / 5')} * 5 end as acres
-				from (
-					select e.record_id, e.practice_code, e.county_fips, e.huc8, e.state_fy_installed, e.state_fy_first, e.state_fy_last,
-						e.n_lb_mean::float8 as n_lb_mean, e.n_lb_low::float8 as n_lb_low, e.n_lb_high::float8 as n_lb_high,
-						e.p_lb_mean::float8 as p_lb_mean, e.p_lb_low::float8 as p_lb_low, e.p_lb_high::float8 as p_lb_high,
-						coalesce(e.credited_acres::float8, 0) as exact, r.installed_on, r.status, r.funding_program,
-						${SETTING.cells} -> (e.county_fips || '|' || e.state_fy_installed || '|' || e.practice_code) as d
-					from (
-						select * from record_estimates where ${where.join(' and ')}
-						order by record_id${opts.limit != null ? ` limit ${int(opts.limit)}` : ''}
-					) as e
-						join records r on r.id = e.record_id
-					order by e.record_id offset 0
-				) as s1
-				order by s1.record_id offset 0
-			) as s2
-			order by s2.record_id offset 0
+				select e.record_id, e.pub_pid, e.practice_code, e.county_fips, e.huc8, e.state_fy_installed, e.state_fy_first, e.state_fy_last,
+					e.pub_install_year, e.pub_install_month, e.pub_funding_program, e.pub_acres,
+					e.pub_n_mean, e.pub_n_low, e.pub_n_high, e.pub_p_mean, e.pub_p_low, e.pub_p_high,
+					${SETTING.cells} -> (e.county_fips || '|' || e.state_fy_installed || '|' || e.practice_code) as d
+				from record_estimates e
+				where ${where.join(' and ')}
+				order by e.record_id${opts.limit != null ? ` limit ${int(opts.limit)}` : ''}
+				offset 0
+			) as s1
+			order by s1.record_id offset 0
 		) as s
 		${opts.limit != null ? '' : `where ${keep}`}
 		order by s.record_id`;

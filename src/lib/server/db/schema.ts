@@ -1,7 +1,7 @@
 // The one `Database` interface: every table the app reads or writes, as Kysely sees it.
 // tests/api/db-schema.test.ts checks it against information_schema of the migrated database.
 // Later areas add their tables here (keep one interface; group tables by area with comments).
-import type { ColumnType, Generated, Insertable, Selectable, Updateable } from 'kysely';
+import type { ColumnType, Generated, GeneratedAlways, Insertable, Selectable, Updateable } from 'kysely';
 
 /** timestamptz: read as Date, written as Date or ISO string. */
 export type Timestamp = ColumnType<Date, Date | string | undefined, Date | string>;
@@ -346,6 +346,20 @@ export interface RecordEstimatesTable {
 	federal_fy_first: number | null;
 	federal_fy_last: number | null;
 	computed_at: Generated<Date>;
+	// The research dataset's per-record values (migration 2026-12-05T0100_dataset_published): set by a
+	// trigger from the record (pid when the transaction carries the pseudonym key), or generated.
+	pub_pid: Generated<string | null>;
+	pub_install_year: Generated<number | null>;
+	pub_install_month: Generated<number | null>;
+	pub_funding_program: Generated<string | null>;
+	pub_included: Generated<boolean | null>;
+	pub_acres: GeneratedAlways<number>;
+	pub_n_mean: GeneratedAlways<number>;
+	pub_n_low: GeneratedAlways<number>;
+	pub_n_high: GeneratedAlways<number>;
+	pub_p_mean: GeneratedAlways<number>;
+	pub_p_low: GeneratedAlways<number>;
+	pub_p_high: GeneratedAlways<number>;
 }
 
 export interface RollupCellsTable {
