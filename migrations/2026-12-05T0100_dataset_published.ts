@@ -42,7 +42,7 @@ end $$`;
 
 export async function up(db: Kysely<any>): Promise<void> {
 	const generated = ['n_lb_mean', 'n_lb_low', 'n_lb_high', 'p_lb_mean', 'p_lb_low', 'p_lb_high']
-		.map((c) => `add column pub_${c.replace('_lb', '')} float8 generated always as (${scaled(c)}) stored`)
+		.map((c) => `add column pub_${c.replace('_lb', '')} float8 not null generated always as (${scaled(c)}) stored`)
 		.join(',\n');
 	await sql
 		.raw(
@@ -52,7 +52,7 @@ export async function up(db: Kysely<any>): Promise<void> {
 				add column pub_install_month smallint,
 				add column pub_funding_program text,
 				add column pub_included boolean,
-				add column pub_acres float8 generated always as (${ACRES}) stored,
+				add column pub_acres float8 not null generated always as (${ACRES}) stored,
 				${generated}`
 		)
 		.execute(db);
