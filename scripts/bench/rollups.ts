@@ -304,13 +304,22 @@ export async function run(): Promise<void> {
 			.executeTakeFirstOrThrow();
 		if (done.created !== 8000 || done.updated !== existing.length)
 			throw new Error(`the batch did not write as planned: ${JSON.stringify(done)}`);
-		return { intake, refresh: refreshClock.ms - before.ms, calls: refreshClock.calls - before.calls, rows: done.rows };
+		return {
+			intake,
+			refresh: refreshClock.ms - before.ms,
+			estimates: refreshClock.estimatesMs - before.estimatesMs,
+			summary: refreshClock.summaryMs - before.summaryMs,
+			calls: refreshClock.calls - before.calls,
+			rows: done.rows
+		};
 	};
 	const batches = [];
 	try {
 		for (let i = 0; i < 3; i++) {
 			const b = await batch(i);
-			log(`  batch ${i + 1}: intake ${ms(b.intake)}, refresh ${ms(b.refresh)} in ${b.calls} calls`);
+			log(
+				`  batch ${i + 1}: intake ${ms(b.intake)}, refresh ${ms(b.refresh)} in ${b.calls} calls (estimates ${ms(b.estimates)}, summary cells ${ms(b.summary)})`
+			);
 			batches.push(b);
 		}
 	} finally {
@@ -322,7 +331,9 @@ export async function run(): Promise<void> {
 
 	const a = median(apiTimes) / median(bareTimes);
 	const b = median(naiveTimes) / median(bareTimes);
-	const c = median(batches.map((x) => x.refresh / x.intake));
+	const c = median(batches.map((x) => x.summary / x.intake));
+	const cEstimates = median(batches.map((x) => x.estimates / x.intake));
+	const cWhole = median(batches.map((x) => x.refresh / x.intake));
 	console.log(`\nRollups benchmark — ${N.toLocaleString('en-US')} records, 99 counties, state FY2016–FY2027, method ${version}`);
 	console.log(`  setup: generate ${ms(genMs)}, full summary build ${ms(fullMs)} (${cells.toLocaleString('en-US')} cells)`);
 	console.log(
@@ -332,7 +343,10 @@ export async function run(): Promise<void> {
 		`  (b) naive GROUP BY over records ${ms(median(naiveTimes))} (${naiveCells} cells) ÷ summary read = ${b.toFixed(1)}   (expect ≥ 20)`
 	);
 	console.log(
-		`  (c) summary refresh within the intake of a 10,000-row file ${ms(median(batches.map((x) => x.refresh)))} ÷ that intake ${ms(median(batches.map((x) => x.intake)))} = ${c.toFixed(3)} (median of ${batches.length} rounds)   (target ≤ 0.1)`
+		`  (c) summary refresh (the cells) within the intake of a 10,000-row file ${ms(median(batches.map((x) => x.summary)))} ÷ that intake ${ms(median(batches.map((x) => x.intake)))} = ${c.toFixed(3)} (median of ${batches.length} rounds)   (target ≤ 0.1)`
+	);
+	console.log(
+		`      and the records' stored estimates re-made and written in the same refresh ${ms(median(batches.map((x) => x.estimates)))} ÷ intake = ${cEstimates.toFixed(3)}; the whole refresh ÷ intake = ${cWhole.toFixed(3)}`
 	);
 	console.log(
 		`  load average at the end: ${os
