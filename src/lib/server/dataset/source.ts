@@ -199,17 +199,16 @@ export async function fillPids(db: Kysely<Database>): Promise<void> {
 }
 
 /**
- * The cell decisions for the whole dataset (never for a filtered part), cached until the estimates, the
- * records or the rule's settings change.
+ * The cell decisions for the whole dataset (never for a filtered part), cached until the stored estimates or
+ * the rule's settings change.
  */
 export async function datasetContext(db: Kysely<Database>, methodVersion?: string): Promise<DatasetContext> {
 	const version = methodVersion ?? (await getActiveMethodVersion(db));
 	const { k, dominance } = await rules(db);
-	const stampRow = await sql<{ stamp: string }>`
-		select coalesce(max(computed_at)::text, '') || '/' || count(*)::text
-			|| '/' || coalesce((select max(updated_at)::text from records), '') as stamp
-		from record_estimates where method_version = ${version}`.execute(db);
-	const stamp = `${version}|${k}|${dominance}|${stampRow.rows[0]?.stamp}`;
+	// Every committed change to the stored estimates moves this counter (migration 2026-12-05T0200); a record's
+	// changes reach the dataset only through its estimate rows, which the rollup service rewrites.
+	const generation = await db.selectFrom('estimate_generation').select('n').executeTakeFirst();
+	const stamp = `${version}|${k}|${dominance}|${generation?.n ?? ''}`;
 	if (cache?.stamp === stamp) return cache.ctx;
 	// Inside a caller's transaction the caller has filled them first (publishRelease); rows still without one
 	// get theirs computed by the query.

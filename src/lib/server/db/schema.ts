@@ -502,8 +502,15 @@ export interface PracticeEventVersionsTable {
 	created_at: Generated<Date>;
 }
 
+/** One row: a counter every statement that changes record_estimates moves (migration 2026-12-05T0200). */
+export interface EstimateGenerationTable {
+	id: Generated<boolean>;
+	n: ColumnType<string, string | number, string | number>;
+}
+
 export interface Database {
 	settings: SettingsTable;
+	estimate_generation: EstimateGenerationTable;
 	counties: CountiesTable;
 	practices: PracticesTable;
 	districts: DistrictsTable;
