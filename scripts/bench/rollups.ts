@@ -2,7 +2,9 @@
 // (generated in bulk SQL; invented data), a full summary build, then three ratios measured in this process:
 //   (a) GET /api/v1/rollups median latency ÷ the bare SQL read of the stored summary it answers from (target ≤ 2)
 //   (b) a naive GROUP BY over the records for the same answer ÷ that summary read (expect ≥ 20)
-//   (c) the summary refresh within the intake of a 10,000-row file of one district ÷ that intake (target ≤ 0.1)
+//   (c) the summary refresh (bringing the cells up to date) within the intake of a 10,000-row file of one district
+//       ÷ that intake (target ≤ 0.1); beside it, the same refresh's re-making of the records' stored estimates
+//       and the whole refresh, each ÷ that intake
 // Env: BENCH_RECORDS (default 1,000,000), BENCH_RUNS (default 25); with DATABASE_URL, an earlier run's database
 // (records and summary) is reused.
 import { spawn } from 'node:child_process';

@@ -35,7 +35,12 @@ export const GET: RequestHandler = async ({ url, locals }) => {
 					'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'xlsx')}"`
 				}
 			});
-		default:
-			return json(outcome.response, { headers });
+		default: {
+			// Encoded once, with its length (json() would encode the text twice: once to count it).
+			const body = Buffer.from(JSON.stringify(outcome.response), 'utf8');
+			return new Response(body, {
+				headers: { ...headers, 'content-type': 'application/json', 'content-length': String(body.byteLength) }
+			});
+		}
 	}
 };
