@@ -35,11 +35,14 @@ function eff(m: ReductionMethod, code: string, k: 'n' | 'p') {
 	if (!v) return { mean: 0, low: 0, high: 0 };
 	return { mean: v.mean, low: clip(v.mean - (v.sd ?? 0)), high: clip(v.mean + (v.sd ?? 0)) };
 }
-/** A stacked practice's share: (1 − Π(1 − eⱼ)) × eᵢ / Σeⱼ (the stacking rule of the rollups issue). */
-function share(effs: number[], i: number) {
-	const sum = effs.reduce((a, e) => a + e, 0);
+/**
+ * A stacked practice's share: (1 − Π(1 − eⱼ)) × wᵢ / Σwⱼ (the stacking rule of the rollups issue), with the
+ * weights w the practices' mean efficiencies in every scenario (low and high too), so low ≤ mean ≤ high.
+ */
+function share(effs: number[], i: number, weights: number[] = effs) {
+	const sum = weights.reduce((a, e) => a + e, 0);
 	if (sum === 0) return 0;
-	return ((1 - effs.reduce((a, e) => a * (1 - e), 1)) * effs[i]) / sum;
+	return ((1 - effs.reduce((a, e) => a * (1 - e), 1)) * weights[i]) / sum;
 }
 
 const RECORDS: TestRecord[] = [
@@ -188,8 +191,8 @@ function expectedCell(m: ReductionMethod, basis: 'installed' | 'in_service') {
 	};
 	const stacked = (x: typeof b.n, y: typeof b.n) => ({
 		mean: share([x.mean, y.mean], 0),
-		low: share([x.low, y.low], 0),
-		high: share([x.high, y.high], 0)
+		low: share([x.low, y.low], 0, [x.mean, y.mean]),
+		high: share([x.high, y.high], 0, [x.mean, y.mean])
 	});
 	// A1 alone on 50 ac; A2 on 80 ac stacked with the cover crop A3; A4 alone on 40 ac.
 	add(50, b.n, b.p);

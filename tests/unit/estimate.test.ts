@@ -140,7 +140,7 @@ describe('stacking on one field: 1 − Π(1 − eᵢ), apportioned by own effici
 		expect(b.p_lb.mean).toBe(0);
 	});
 
-	it('a record’s own share can order differently from the field’s (each scenario apportioned on its own)', () => {
+	it('low and high share the field’s low and high E in the mean’s proportions, so a record keeps low ≤ mean ≤ high', () => {
 		const sat: EstimateInput = {
 			id: 6,
 			practice_code: '604',
@@ -152,8 +152,13 @@ describe('stacking on one field: 1 − Π(1 − eᵢ), apportioned by own effici
 		const [, , s] = estimateFieldGroup([rye, bio, sat], DEFAULT_METHOD);
 		// mean: E = 1 − 0.69 × 0.57 × 0.50 = 0.80335, share 0.80335 × 0.50 / 1.24 = 0.32393
 		expect(s.credited_efficiency.n.mean).toBeCloseTo((0.80335 * 0.5) / 1.24, 5);
-		// high: E = 1 − 0.40 × 0.36 × 0.37 = 0.94672, share 0.94672 × 0.63 / 1.87 = 0.31895
-		expect(s.credited_efficiency.n.high).toBeCloseTo((0.94672 * 0.63) / 1.87, 5);
+		// high: E = 1 − 0.40 × 0.36 × 0.37 = 0.94672, share 0.94672 × 0.50 / 1.24 = 0.38175 (its own high
+		// 0.63 of Σ 1.87 would give 0.31895, below its mean share)
+		expect(s.credited_efficiency.n.high).toBeCloseTo((0.94672 * 0.5) / 1.24, 5);
+		// low: E = 1 − 0.98 × 0.78 × 0.63 = 0.518428 (rye 2 %, bioreactor 22 %, saturated buffer 37 %), share × 0.50 / 1.24
+		expect(s.credited_efficiency.n.low).toBeCloseTo((0.518428 * 0.5) / 1.24, 5);
+		expect(s.n_lb.low).toBeLessThanOrEqual(s.n_lb.mean);
+		expect(s.n_lb.mean).toBeLessThanOrEqual(s.n_lb.high);
 	});
 
 	it('three practices: 1 − 0.57 × 0.69 × 0.67', () => {
@@ -208,6 +213,35 @@ describe('stacking properties (fast-check)', () => {
 				const shares = apportion(es);
 				const total = shares.reduce((a, b) => a + b, 0);
 				return Math.abs(total - combineEfficiencies(es)) < 1e-12 && shares.every((s, i) => s <= es[i] + 1e-12 && s >= 0);
+			})
+		);
+	});
+
+	it('on any stacked field of the default method, every record keeps low ≤ mean ≤ high and the shares add up to each E', () => {
+		const codes = DEFAULT_METHOD.practices.map((p) => p.practice_code);
+		fc.assert(
+			fc.property(fc.array(fc.constantFrom(...codes), { minLength: 2, maxLength: 5 }), (picked) => {
+				const group: EstimateInput[] = picked.map((code, i) => ({
+					id: i + 1,
+					practice_code: code,
+					county_fips: '19169',
+					district_id: 7,
+					field_id: 'F-prop',
+					extent_acres: 40,
+					drainage_area_acres: 40
+				}));
+				const res = estimateFieldGroup(group, DEFAULT_METHOD);
+				for (const k of ['n', 'p'] as const) {
+					for (const r of res) {
+						const e = r.credited_efficiency[k];
+						if (!(e.low <= e.mean + 1e-12 && e.mean <= e.high + 1e-12)) return false;
+					}
+					for (const part of ['mean', 'low', 'high'] as const) {
+						const total = res.reduce((a, r) => a + r.credited_efficiency[k][part], 0);
+						if (Math.abs(total - combineEfficiencies(res.map((r) => r.efficiency[k][part]))) > 1e-12) return false;
+					}
+				}
+				return true;
 			})
 		);
 	});

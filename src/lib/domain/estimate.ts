@@ -6,8 +6,12 @@
 // with low/high from mean ∓ one published SD, clipped to [0, 1]. Credited acres are `extent_acres` for
 // in-field practices and `drainage_area_acres` for edge-of-field ones (the method's `credited_basis`).
 // Practices stacked on the same field (same district and `field_id`) combine as E = 1 − Π(1 − eᵢ), never
-// summed; E is shared among them in proportion to each one's own efficiency (share_i = E · eᵢ / Σe), done
-// separately for the mean, the low and the high, and for N and P. Withdrawn records stop counting.
+// summed; E is shared among them in proportion to each one's own mean efficiency (share_i = E · eᵢ / Σe), for
+// N and P. The low and the high combine the practices' low (high) efficiencies the same way and share that
+// E in the same proportions as the mean, so each record keeps low ≤ mean ≤ high (shares taken from each
+// scenario's own efficiencies could cross: a practice stacked with one whose low is 0 would take the whole
+// low E). Only when no counted practice has a mean efficiency do a scenario's own efficiencies weigh.
+// Withdrawn records stop counting.
 import { inServiceDuring, withdrawal } from './in-service';
 import { baselineFor, practiceMethod, type EfficiencyValue, type Nutrient, type ReductionMethod } from './reduction-method';
 import type { CreditedBasis } from './practice-catalog';
@@ -91,12 +95,17 @@ export function combineEfficiencies(effs: readonly number[]): number {
 	return 1 - remaining;
 }
 
-/** Shares of the combined efficiency, in proportion to each own efficiency; they sum to the combined value. */
-export function apportion(effs: readonly number[]): number[] {
+/**
+ * Shares of the combined efficiency of `effs`, in proportion to `weights` (by default the efficiencies
+ * themselves; weights that sum to 0 fall back to them); they sum to the combined value.
+ */
+export function apportion(effs: readonly number[], weights: readonly number[] = effs): number[] {
 	const combined = combineEfficiencies(effs);
-	const sum = effs.reduce((a, e) => a + clip01(e), 0);
+	let w = weights.map(clip01);
+	if (w.reduce((a, e) => a + e, 0) === 0) w = effs.map(clip01);
+	const sum = w.reduce((a, e) => a + e, 0);
 	if (sum === 0) return effs.map(() => 0);
-	return effs.map((e) => (combined * clip01(e)) / sum);
+	return w.map((e) => (combined * e) / sum);
 }
 
 function isWithdrawn(r: EstimateInput): boolean {
@@ -160,9 +169,10 @@ export function estimateFieldGroup(
 	const shares = new Map<(typeof prepared)[number], { n: Range; p: Range }>();
 	const combined: { n: Range; p: Range } = { n: { ...ZERO }, p: { ...ZERO } };
 	for (const k of ['n', 'p'] as Nutrient[]) {
+		const means = counted.map((x) => x.eff[k].mean);
 		for (const part of ['mean', 'low', 'high'] as const) {
 			const effs = counted.map((x) => x.eff[k][part]);
-			const s = apportion(effs);
+			const s = apportion(effs, means);
 			combined[k][part] = combineEfficiencies(effs);
 			counted.forEach((x, i) => {
 				let entry = shares.get(x);
