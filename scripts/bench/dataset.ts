@@ -16,7 +16,7 @@ import pg from 'pg';
 import { to as copyTo } from 'pg-copy-streams';
 import { sql, type Kysely } from 'kysely';
 import { build, buildIsStale } from '../lib/build';
-import { hmacPads } from '../../src/lib/server/dataset/pseudonym';
+import { carryPseudonymKey } from '../../src/lib/server/dataset/pseudonym';
 import { ROOT } from '../lib/env';
 
 const log = (m: string) => console.error(m);
@@ -69,8 +69,7 @@ async function generate(db: Kysely<any>, upTo: number, methodVersion: string): P
 		// Stored estimates with invented efficiencies (what the rollups service would have written), with the
 		// pseudonym key in the transaction as the rollups service has it, so each row gets its pid as it is written.
 		await db.transaction().execute(async (trx) => {
-			const { ipad, opad } = await hmacPads(trx as unknown as Parameters<typeof hmacPads>[0]);
-			await sql`select set_config('runnel.dataset_ipad', ${ipad}, true), set_config('runnel.dataset_opad', ${opad}, true)`.execute(trx);
+			await carryPseudonymKey(trx as unknown as Parameters<typeof carryPseudonymKey>[0]);
 			await sql`
 			insert into record_estimates (record_id, method_version, counted, credited_acres, n_lb_mean, n_lb_low, n_lb_high,
 				p_lb_mean, p_lb_low, p_lb_high, district_id, county_fips, huc8, practice_code, field_id, operation_key,

@@ -3,7 +3,7 @@
 // RUNNEL_DATASET_SECRET; without it, one is generated on first use and kept in the settings table (never
 // served by any route). Changing the secret changes every pseudonym: treat it like a signing key.
 import { createHash, createHmac, randomBytes } from 'node:crypto';
-import type { Kysely } from 'kysely';
+import { sql, type Kysely } from 'kysely';
 import type { Database } from '../db/schema';
 
 const SETTING = 'dataset_pseudonym_secret';
@@ -41,4 +41,14 @@ export async function hmacPads(db: Kysely<Database>): Promise<{ ipad: string; op
 	const ipad = Buffer.from(block.map((b) => b ^ 0x36));
 	const opad = Buffer.from(block.map((b) => b ^ 0x5c));
 	return { ipad: ipad.toString('hex'), opad: opad.toString('hex') };
+}
+
+/**
+ * Hands the pseudonym key (the pads) to the rest of this transaction as local settings, so the estimate rows
+ * it writes get their research-dataset pid from the record_estimates_published trigger
+ * (migration 2026-12-05T0100_dataset_published).
+ */
+export async function carryPseudonymKey(trx: Kysely<Database>): Promise<void> {
+	const { ipad, opad } = await hmacPads(trx);
+	await sql`select set_config('runnel.dataset_ipad', ${ipad}, true), set_config('runnel.dataset_opad', ${opad}, true)`.execute(trx);
 }

@@ -35,7 +35,7 @@ import type { ReductionMethod } from '$lib/domain/reduction-method';
 import { activeMethodVersion, loadMethod } from './method-source';
 import { stateFyStartMonth } from './settings';
 import { EFFECTIVE_WITHDRAWN_ON } from '../verification/credit';
-import { hmacPads } from '../dataset/pseudonym';
+import { carryPseudonymKey } from '../dataset/pseudonym';
 
 type Db = Kysely<Database> | Transaction<Database>;
 
@@ -50,10 +50,8 @@ export async function lockRollups(trx: Transaction<Database>): Promise<void> {
 	// it compile these short queries with JIT (seconds) and plan tiny sorts to disk; tell it otherwise.
 	await sql`set local jit = off`.execute(trx);
 	await sql`set local work_mem = '64MB'`.execute(trx);
-	// The pseudonym key, so the estimate rows this transaction writes carry their research-dataset pid
-	// (the record_estimates_published trigger; migration 2026-12-05T0100_dataset_published).
-	const { ipad, opad } = await hmacPads(trx);
-	await sql`select set_config('runnel.dataset_ipad', ${ipad}, true), set_config('runnel.dataset_opad', ${opad}, true)`.execute(trx);
+	// So the estimate rows this transaction writes carry their research-dataset pid.
+	await carryPseudonymKey(trx);
 }
 
 // --- loading and writing per-record facts --------------------------------------------------------------
