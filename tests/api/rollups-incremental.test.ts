@@ -161,6 +161,29 @@ describe('incremental maintenance = full rebuild', () => {
 		expect(afterChange.cells.filter((c) => (c as Record<string, unknown>).fy_basis === 'state').length).toBeGreaterThan(0);
 	});
 
+	it('a stored cell whose counts cannot be right after the deltas is recomputed too', async () => {
+		const districtId = await createDistrict(db, 'RTG', 'Rollup bad-count district', 'Rollup Test Region', COUNTIES);
+		const [id] = await insertRecords(db, districtId, [
+			toRecord('G1', {
+				practice_code: '605',
+				county_fips: '19001',
+				installed_on: '2024-09-01',
+				acres: 50,
+				field_id: null,
+				operation_id: 'op-a',
+				huc12: null,
+				cost: 100
+			})
+		]);
+		// Hand-edited cells: practices but no operations. A change of acres moves neither count, so patching
+		// would keep the impossible pair; the refresh must see it and recompute.
+		await sql`update rollup_cells set operations = 0 where method_version = ${method} and district_id = ${districtId}`.execute(db);
+		await updateRecords(db, [{ id, set: { drainage_area_acres: 80 } }]);
+		const afterChange = await snapshot(districtId);
+		await rebuildDistricts(db, method, [districtId]);
+		expect(afterChange).toEqual(await snapshot(districtId));
+	});
+
 	it('the summary is never read from the records: cells stay as stored when records change behind the hook', async () => {
 		const districtId = await createDistrict(db, 'RTQ', 'Rollup direct-write district', 'Rollup Test Region', COUNTIES);
 		const [id] = await insertRecords(db, districtId, [

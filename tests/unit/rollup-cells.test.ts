@@ -2,7 +2,17 @@
 // six levels, then grouped. Random facts (fast-check) plus a worked example.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { aggregateCells, cellDeltas, cellId, countedIn, keysOf, summaryKeyId, type CellFact, type CellRow } from '$lib/domain/rollup-cells';
+import {
+	aggregateCells,
+	cellDeltas,
+	cellId,
+	countedIn,
+	keysOf,
+	operationsMoved,
+	summaryKeyId,
+	type CellFact,
+	type CellRow
+} from '$lib/domain/rollup-cells';
 
 function reference(facts: CellFact[]): CellRow[] {
 	const groups = new Map<string, { row: CellRow; ops: Set<string> }>();
@@ -144,6 +154,9 @@ describe('summary cells', () => {
 				const pending = cellDeltas(before, after);
 				// Only the unchanged records of the operations asked about are needed.
 				const asked = new Set(pending.operations.map((o) => `${o.district_id}|${o.operation_key}`));
+				// operationsMoved names every one of them (the refresh reads their records early by it).
+				const moved = new Set(operationsMoved(before, after).map((o) => `${o.district_id}|${o.operation_key}`));
+				for (const o of asked) expect(moved).toContain(o);
 				const deltas = pending.finish(others.filter((f) => asked.has(`${f.district_id}|${f.operation_key}`)));
 				const cells = new Map(aggregateCells(old).map((r) => [cellId(r), { ...r }]));
 				for (const d of deltas) {
@@ -171,6 +184,36 @@ describe('summary cells', () => {
 			{ numRuns: 300 }
 		);
 	}, 60_000);
+
+	it('operationsMoved: a change of amounts only moves no operation; a change of place or FY span does', () => {
+		const f: CellFact = {
+			district_id: 1,
+			county_fips: '19169',
+			huc8: '07080105',
+			practice_code: '605',
+			operation_key: 'farm-1',
+			state: { installed: 2025, first: 2025, last: 2034 },
+			federal: { installed: 2025, first: 2025, last: 2034 },
+			acres: 500_000,
+			cost: 1_200_000,
+			cost_share: 0,
+			n_mean: 215_000_000,
+			n_low: 0,
+			n_high: 0,
+			p_mean: 0,
+			p_low: 0,
+			p_high: 0
+		};
+		const more = { ...f, acres: 800_000, n_mean: 344_000_000 };
+		expect(operationsMoved([f], [more])).toEqual([]);
+		expect(cellDeltas([f], [more]).operations).toEqual([]);
+		// Two records of the farm swapping places: each place keeps one changed record.
+		const g = { ...f, county_fips: '19013' };
+		expect(operationsMoved([f, g], [g, f])).toEqual([]);
+		expect(operationsMoved([f], [g])).toEqual([{ district_id: 1, operation_key: 'farm-1' }]);
+		expect(operationsMoved([f], [{ ...f, state: { ...f.state, last: 2030 } }])).toEqual([{ district_id: 1, operation_key: 'farm-1' }]);
+		expect(operationsMoved([], [f])).toEqual([{ district_id: 1, operation_key: 'farm-1' }]);
+	});
 
 	it('a worked example: two bioreactors of one farm and a cover crop of another in one county and FY', () => {
 		const base = {

@@ -263,12 +263,9 @@ export function countsIn(
 	return span.first !== null && span.last !== null && span.first <= c.fy && c.fy <= span.last;
 }
 
-/** A delta cell: its row (amounts and practices added, operations filled by `finish`) and, per operation, how
- * many of the changed records count in it [before, after]. */
-interface DeltaAcc {
-	row: CellRow;
-	ops: Map<string, [number, number]>;
-}
+/** Packs a cell's [before, after] record counts of one operation in one number: before × OPS_SIDE + after
+ * (each below 2^26, so sums stay exact). */
+const OPS_SIDE = 2 ** 26;
 
 /** An operation whose other records decide some cell's distinct-operation count: see cellDeltas. */
 export interface OperationQuestion {
@@ -285,95 +282,297 @@ export interface PendingDeltas {
 }
 
 /**
+ * The operations whose changed records count in different places after the change than before: for each
+ * (district, operation), the changed records' places (geography, practice and FY spans) before and after,
+ * compared as multisets. An operation whose places are the same on both sides has the same number of
+ * changed records in every cell before and after, so it cannot enter or leave a cell: the result contains
+ * every operation cellDeltas(before, after) asks about. It is cheap (no FY is visited), so the refresh can
+ * start reading those operations' other records before the deltas are worked out.
+ */
+export function operationsMoved(before: Iterable<CellFact>, after: Iterable<CellFact>): OperationQuestion[] {
+	const place = (f: CellFact) =>
+		[
+			f.county_fips,
+			f.huc8 ?? '',
+			f.practice_code,
+			f.state.installed,
+			f.state.first,
+			f.state.last,
+			f.federal.installed,
+			f.federal.first,
+			f.federal.last
+		].join(',');
+	// (district, operation) → place → after count minus before count.
+	const balance = new Map<string, { question: OperationQuestion; places: Map<string, number> }>();
+	const count = (f: CellFact, n: number) => {
+		const id = `${f.district_id}|${f.operation_key}`;
+		let b = balance.get(id);
+		if (!b) balance.set(id, (b = { question: { district_id: f.district_id, operation_key: f.operation_key }, places: new Map() }));
+		const p = place(f);
+		b.places.set(p, (b.places.get(p) ?? 0) + n);
+	};
+	for (const f of before) count(f, -1);
+	for (const f of after) count(f, 1);
+	return [...balance.values()].filter((b) => [...b.places.values()].some((n) => n !== 0)).map((b) => b.question);
+}
+
+/** Gives each distinct string a small number (so hot loops key maps by numbers, not strings). */
+class Numbering {
+	readonly ids = new Map<string, number>();
+	readonly values: string[] = [];
+	of(s: string): number {
+		let id = this.ids.get(s);
+		if (id === undefined) {
+			id = this.values.length;
+			this.ids.set(s, id);
+			this.values.push(s);
+		}
+		return id;
+	}
+}
+
+/** Room for practice numbers in a fine cell's number. */
+const PRACTICES = 4096;
+
+/** Slots per FY in a run's amounts: practices, then AMOUNTS in order. */
+const SLOTS = 1 + AMOUNTS.length;
+
+/**
+ * One cell over every FY of the change (same district, FY basis, counting basis, level, place and practice),
+ * as differences between consecutive FYs (a fact counting in FYs from..to adds at `from` and takes away at
+ * `to + 1`, whatever its length): how many changed facts count, their practices and amounts, and per
+ * operation the packed [before, after] counts. `finish` of cellDeltas adds them up FY by FY.
+ */
+interface Run {
+	key: Omit<SummaryKey, 'fy'>;
+	geo_level: GeoLevel;
+	geo: string;
+	practice_code: string;
+	/** Changed facts counting, per FY (differences). */
+	touched: Int32Array;
+	/** SLOTS numbers per FY (differences). */
+	sums: Float64Array;
+	/** Operation number → its row in `opCounts`. */
+	opRows: Map<number, number>;
+	/** Per operation row, packed counts per FY (differences); grown as operations come. */
+	opCounts: Float64Array;
+}
+
+/** A cell delta before `finish`: the row, and the operations that enter or leave it as far as the change goes. */
+interface Pending {
+	row: CellRow;
+	/** [operation number, packed counts] pairs, flat. */
+	flips: number[];
+}
+
+/**
  * What replacing the facts `before` by the facts `after` (the same records, old and new footprints; a new
  * record has no `before`, a removed one no `after`) adds to each cell: practices and amounts exactly, and
  * the change in distinct operations. An operation appears in or leaves a cell only when the changed records
  * of that operation go from none to some counting in it (or back) — and then only if no other record of
  * the operation counts there, which is why `operations` lists the operations to look up and `finish` takes
  * the facts of their unchanged records. Cells whose delta is all zeros are left out.
+ *
+ * A fact adds to its two finest cells (county × practice and HUC-8 × practice) over all its FYs at once:
+ * each cell is kept as a run of FYs holding differences between consecutive FYs, so a fact costs the same
+ * whatever the length of its span; the coarser levels are the runs merged, and the rows are read off the
+ * runs at the end.
  */
 export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>): PendingDeltas {
-	// As in aggregateCells: each (fact, FY) goes to its two finest cells; the coarser ones are merged at the end.
-	const byKey = new Map<number, { key: SummaryKey; county: Map<string, DeltaAcc>; huc8: Map<string, DeltaAcc> }>();
-	const fine = (map: Map<string, DeltaAcc>, key: SummaryKey, id: string, level: GeoLevel, geo: string, practice: string) => {
-		let a = map.get(id);
-		if (!a) map.set(id, (a = { row: newAcc(key, level, geo, practice).row, ops: new Map() }));
-		return a;
+	const sides: [CellFact[], CellFact[]] = [[...before], [...after]];
+	// The FYs any fact counts in.
+	let lo = Infinity;
+	let hi = -Infinity;
+	for (const facts of sides)
+		for (const f of facts)
+			for (const fb of FY_BASES) {
+				const s = f[fb];
+				lo = Math.min(lo, s.installed, s.first ?? Infinity);
+				hi = Math.max(hi, s.installed, s.last ?? -Infinity);
+			}
+	const years = hi - lo + 1;
+	/** Differences per FY, with room for the one after the last. */
+	const slots = years + 1;
+	const places = new Numbering();
+	const practices = new Numbering();
+	const operations = new Numbering();
+	const operationOf: OperationQuestion[] = [];
+	// (district, FY basis, counting basis) → runs by number: county × practice and HUC-8 × practice.
+	const combos = new Map<number, { key: Omit<SummaryKey, 'fy'>; county: Map<number, Run>; huc8: Map<number, Run> }>();
+	const newRun = (key: Omit<SummaryKey, 'fy'>, geo_level: GeoLevel, geo: string, practice_code: string): Run => ({
+		key,
+		geo_level,
+		geo,
+		practice_code,
+		touched: new Int32Array(slots),
+		sums: new Float64Array(slots * SLOTS),
+		opRows: new Map(),
+		opCounts: new Float64Array(slots * 8)
+	});
+	/** Where an operation's counts start in a run's opCounts (a new row of zeros the first time). */
+	const opAt = (run: Run, op: number): number => {
+		let row = run.opRows.get(op);
+		if (row === undefined) {
+			row = run.opRows.size;
+			run.opRows.set(op, row);
+			if ((row + 1) * slots > run.opCounts.length) {
+				const grown = new Float64Array(run.opCounts.length * 2);
+				grown.set(run.opCounts);
+				run.opCounts = grown;
+			}
+		}
+		return row * slots;
 	};
-	const count = (a: DeltaAcc, op: string, side: 0 | 1, n: number) => {
-		let c = a.ops.get(op);
-		if (!c) a.ops.set(op, (c = [0, 0]));
-		c[side] += n;
+	const runOf = (map: Map<number, Run>, id: number, key: Omit<SummaryKey, 'fy'>, level: GeoLevel, geo: string, practice: string) => {
+		let r = map.get(id);
+		if (!r) map.set(id, (r = newRun(key, level, geo, practice)));
+		return r;
 	};
-	const visit = (f: CellFact, side: 0 | 1) => {
+	const amounts = new Float64Array(SLOTS);
+	const addSpan = (run: Run, op: number, one: number, from: number, to: number) => {
+		const at = opAt(run, op);
+		const start = from - lo;
+		const end = to - lo + 1;
+		run.touched[start]++;
+		run.touched[end]--;
+		run.opCounts[at + start] += one;
+		run.opCounts[at + end] -= one;
+		const sums = run.sums;
+		for (let k = 0; k < SLOTS; k++) {
+			sums[start * SLOTS + k] += amounts[k];
+			sums[end * SLOTS + k] -= amounts[k];
+		}
+	};
+	for (let side = 0; side < 2; side++) {
 		const sign = side === 0 ? -1 : 1;
-		const huc = f.huc8 ?? '';
-		const countyCell = `${f.county_fips}|${f.practice_code}`;
-		const hucCell = `${huc}|${f.practice_code}`;
-		forEachEntry(
-			byKey,
-			f,
-			(key) => ({ key, county: new Map(), huc8: new Map() }),
-			(entry) => {
-				const ca = fine(entry.county, entry.key, countyCell, 'county', f.county_fips, f.practice_code);
-				addFact(ca.row, f, sign);
-				count(ca, f.operation_key, side, 1);
-				const ha = fine(entry.huc8, entry.key, hucCell, 'huc8', huc, f.practice_code);
-				addFact(ha.row, f, sign);
-				count(ha, f.operation_key, side, 1);
+		const one = side === 0 ? OPS_SIDE : 1;
+		for (const f of sides[side]) {
+			// In AMOUNTS order, written out (a keyed read per amount would cost more than the rest of the loop).
+			amounts[0] = sign;
+			amounts[1] = sign * f.acres;
+			amounts[2] = sign * f.cost;
+			amounts[3] = sign * f.cost_share;
+			amounts[4] = sign * f.n_mean;
+			amounts[5] = sign * f.n_low;
+			amounts[6] = sign * f.n_high;
+			amounts[7] = sign * f.p_mean;
+			amounts[8] = sign * f.p_low;
+			amounts[9] = sign * f.p_high;
+			const huc = f.huc8 ?? '';
+			const practice = practices.of(f.practice_code);
+			const countyCell = places.of(f.county_fips) * PRACTICES + practice;
+			const hucCell = places.of(huc) * PRACTICES + practice;
+			if (practice >= PRACTICES) throw new Error('too many practice codes in one change');
+			const op = operations.of(`${f.district_id}|${f.operation_key}`);
+			if (op === operationOf.length) operationOf.push({ district_id: f.district_id, operation_key: f.operation_key });
+			for (let b = 0; b < 2; b++) {
+				const span = b === 0 ? f.state : f.federal;
+				for (let c = 0; c < 2; c++) {
+					if (c === 1 && (span.first === null || span.last === null)) continue;
+					const from = c === 0 ? span.installed : (span.first as number);
+					const to = c === 0 ? span.installed : (span.last as number);
+					const comboId = (f.district_id * 2 + b) * 2 + c;
+					let combo = combos.get(comboId);
+					if (!combo) {
+						const key = { district_id: f.district_id, fy_basis: FY_BASES[b], basis: BASES[c] };
+						combos.set(comboId, (combo = { key, county: new Map(), huc8: new Map() }));
+					}
+					addSpan(runOf(combo.county, countyCell, combo.key, 'county', f.county_fips, f.practice_code), op, one, from, to);
+					addSpan(runOf(combo.huc8, hucCell, combo.key, 'huc8', huc, f.practice_code), op, one, from, to);
+				}
 			}
-		);
-	};
-	for (const f of before) visit(f, 0);
-	for (const f of after) visit(f, 1);
-	const cells: DeltaAcc[] = [];
-	for (const { key, county, huc8 } of byKey.values()) {
-		const merged = new Map<string, DeltaAcc>();
-		const mergeInto = (id: string, level: GeoLevel, geo: string, practice: string, from: DeltaAcc) => {
-			const a = fine(merged, key, id, level, geo, practice);
-			addFact(a.row, from.row, 1);
-			for (const [op, [was, is]] of from.ops) {
-				count(a, op, 0, was);
-				count(a, op, 1, is);
-			}
-		};
-		for (const a of county.values()) {
-			cells.push(a);
-			mergeInto(`c|${a.row.geo}`, 'county', a.row.geo, '*', a);
-			mergeInto(`d|${a.row.practice_code}`, 'district', '', a.row.practice_code, a);
-			mergeInto('d|*', 'district', '', '*', a);
 		}
-		for (const a of huc8.values()) {
-			cells.push(a);
-			mergeInto(`h|${a.row.geo}`, 'huc8', a.row.geo, '*', a);
-		}
-		cells.push(...merged.values());
 	}
-	const asked = new Map<string, OperationQuestion>();
-	for (const { row, ops } of cells)
-		for (const [op, [was, is]] of ops)
-			if ((was === 0) !== (is === 0)) {
-				const k = `${row.district_id}|${op}`;
-				if (!asked.has(k)) asked.set(k, { district_id: row.district_id, operation_key: op });
+	// Coarser runs: each the sum of its finer runs.
+	const merge = (into: Run, from: Run) => {
+		for (let i = 0; i < slots; i++) into.touched[i] += from.touched[i];
+		for (let i = 0; i < into.sums.length; i++) into.sums[i] += from.sums[i];
+		for (const [op, row] of from.opRows) {
+			const at = opAt(into, op);
+			const counts = into.opCounts;
+			for (let i = 0; i < slots; i++) counts[at + i] += from.opCounts[row * slots + i];
+		}
+	};
+	const runs: Run[] = [];
+	for (const { key, county, huc8 } of combos.values()) {
+		const countyAll = new Map<number, Run>();
+		const hucAll = new Map<number, Run>();
+		const districtPractice = new Map<number, Run>();
+		const districtAll = new Map<number, Run>();
+		for (const [id, r] of county) {
+			runs.push(r);
+			merge(runOf(countyAll, Math.floor(id / PRACTICES), key, 'county', r.geo, '*'), r);
+			merge(runOf(districtPractice, id % PRACTICES, key, 'district', '', r.practice_code), r);
+			merge(runOf(districtAll, 0, key, 'district', '', '*'), r);
+		}
+		for (const [id, r] of huc8) {
+			runs.push(r);
+			merge(runOf(hucAll, Math.floor(id / PRACTICES), key, 'huc8', r.geo, '*'), r);
+		}
+		for (const m of [countyAll, districtPractice, districtAll, hucAll]) for (const r of m.values()) runs.push(r);
+	}
+	// The rows (FY by FY, adding up the differences), with the operations that enter or leave each: those
+	// whose changed records count on one side only.
+	const cells: Pending[] = [];
+	const asked = new Set<number>();
+	for (const run of runs) {
+		let touched = 0;
+		const sums = new Float64Array(SLOTS);
+		const ops = [...run.opRows.keys()];
+		const counts = new Float64Array(ops.length);
+		for (let i = 0; i < years; i++) {
+			touched += run.touched[i];
+			for (let k = 0; k < SLOTS; k++) sums[k] += run.sums[i * SLOTS + k];
+			for (let j = 0; j < ops.length; j++) counts[j] += run.opCounts[j * slots + i];
+			if (touched === 0) continue;
+			const row: CellRow = {
+				fy_basis: run.key.fy_basis,
+				basis: run.key.basis,
+				geo_level: run.geo_level,
+				fy: lo + i,
+				district_id: run.key.district_id,
+				geo: run.geo,
+				practice_code: run.practice_code,
+				practices: sums[0],
+				operations: 0,
+				acres: sums[1],
+				cost: sums[2],
+				cost_share: sums[3],
+				n_mean: sums[4],
+				n_low: sums[5],
+				n_high: sums[6],
+				p_mean: sums[7],
+				p_low: sums[8],
+				p_high: sums[9]
+			};
+			const flips: number[] = [];
+			for (let j = 0; j < ops.length; j++) {
+				const n = counts[j];
+				if (n !== 0 && n < OPS_SIDE !== (n % OPS_SIDE === 0)) {
+					flips.push(ops[j], n);
+					asked.add(ops[j]);
+				}
 			}
+			cells.push({ row, flips });
+		}
+	}
 	return {
-		operations: [...asked.values()],
+		operations: [...asked].map((op) => operationOf[op]),
 		finish(others) {
-			const byOperation = new Map<string, CellFact[]>();
+			const byOperation = new Map<number, CellFact[]>();
 			for (const f of others) {
-				const k = `${f.district_id}|${f.operation_key}`;
-				if (!asked.has(k)) continue;
-				const list = byOperation.get(k);
+				const op = operations.ids.get(`${f.district_id}|${f.operation_key}`);
+				if (op === undefined || !asked.has(op)) continue;
+				const list = byOperation.get(op);
 				if (list) list.push(f);
-				else byOperation.set(k, [f]);
+				else byOperation.set(op, [f]);
 			}
 			const out: CellRow[] = [];
-			for (const { row, ops } of cells) {
-				for (const [op, [was, is]] of ops) {
-					if ((was === 0) === (is === 0)) continue;
-					const list = byOperation.get(`${row.district_id}|${op}`);
+			for (const { row, flips } of cells) {
+				for (let j = 0; j < flips.length; j += 2) {
+					const list = byOperation.get(flips[j]);
 					if (list && list.some((f) => countsIn(f, row))) continue;
-					row.operations += is > 0 ? 1 : -1;
+					row.operations += flips[j + 1] % OPS_SIDE > 0 ? 1 : -1;
 				}
 				if (row.practices !== 0 || row.operations !== 0 || AMOUNTS.some((k) => row[k] !== 0)) out.push(row);
 			}

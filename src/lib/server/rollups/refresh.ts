@@ -24,6 +24,7 @@ import {
 	AMOUNTS,
 	zeroAmounts,
 	cellDeltas,
+	operationsMoved,
 	cellId,
 	summaryKeyId,
 	type CellFact,
@@ -50,6 +51,9 @@ export async function lockRollups(trx: Transaction<Database>): Promise<void> {
 	// it compile these short queries with JIT (seconds) and plan tiny sorts to disk; tell it otherwise.
 	await sql`set local jit = off`.execute(trx);
 	await sql`set local work_mem = '64MB'`.execute(trx);
+	// The rows these steps read are few and cached: index lookups, not hashes of whole tables (the default 4
+	// is a spinning-disk figure; 1.1 is the usual one for SSDs and cached data).
+	await sql`set local random_page_cost = 1.1`.execute(trx);
 	// So the estimate rows this transaction writes carry their research-dataset pid.
 	await carryPseudonymKey(trx);
 }
@@ -293,6 +297,27 @@ async function loadOperationFootprints(
 	return out;
 }
 
+/**
+ * The stored cells' amount columns (in the order of the table and of AMOUNTS), the integer amount each holds
+ * (rollup-cells.ts) and how many of those make one of the column's unit. Turning an integer back is a
+ * multiplication by the unit's fraction (0.0001 acre…), exact and with a fixed scale, so a cell written by
+ * a full build and one patched by deltas are stored identically.
+ */
+const STORED_AMOUNTS = [
+	['credited_acres', 'acres', 10_000],
+	['cost_usd', 'cost', 100],
+	['cost_share_usd', 'cost_share', 100],
+	['n_lb_mean', 'n_mean', 1_000_000],
+	['n_lb_low', 'n_low', 1_000_000],
+	['n_lb_high', 'n_high', 1_000_000],
+	['p_lb_mean', 'p_mean', 1_000_000],
+	['p_lb_low', 'p_low', 1_000_000],
+	['p_lb_high', 'p_high', 1_000_000]
+] as const;
+
+/** 1/per as an exact numeric literal (10,000 → 0.0001). */
+const unitOf = (per: number) => sql.raw((1 / per).toFixed(Math.log10(per)));
+
 /** Writes cells (integer amounts turned back into dollars, acres and pounds). */
 async function insertCells(db: Db, methodVersion: string, cells: readonly CellRow[]): Promise<void> {
 	for (let i = 0; i < cells.length; i += CHUNK) {
@@ -302,8 +327,7 @@ async function insertCells(db: Db, methodVersion: string, cells: readonly CellRo
 			insert into rollup_cells (method_version, fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations,
 				credited_acres, cost_usd, cost_share_usd, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high)
 			select ${methodVersion}, u.fy_basis, u.basis, u.geo_level, u.fy, u.district_id, u.geo, u.practice_code, u.practices, u.operations,
-				u.acres / 10000.0, u.cost / 100.0, u.cost_share / 100.0, u.n_mean / 1000000.0, u.n_low / 1000000.0, u.n_high / 1000000.0,
-				u.p_mean / 1000000.0, u.p_low / 1000000.0, u.p_high / 1000000.0
+				${sql.join(STORED_AMOUNTS.map(([, amount, per]) => sql`u.${sql.ref(amount)} * ${unitOf(per)}`))}
 			from unnest(${col((c) => c.fy_basis)}::text[], ${col((c) => c.basis)}::text[], ${col((c) => c.geo_level)}::text[],
 				${col((c) => c.fy)}::int[], ${col((c) => c.district_id)}::int[], ${col((c) => c.geo)}::text[], ${col((c) => c.practice_code)}::text[],
 				${col((c) => c.practices)}::int[], ${col((c) => c.operations)}::int[], ${col((c) => c.acres)}::int8[], ${col((c) => c.cost)}::int8[],
@@ -328,40 +352,59 @@ export async function recomputeCells(db: Db, methodVersion: string, keys: readon
 	await insertCells(db, methodVersion, aggregateCells(facts, new Set(keys.map(summaryKeyId))));
 }
 
+/** A cell's key columns and its delta (integer amounts), as json_to_recordset reads the deltas. */
+const DELTA_COLUMNS = sql`k(fy_basis text, basis text, geo_level text, practice_code text, fy int, district_id int, geo text,
+	practices int, operations int, acres int8, cost int8, cost_share int8, n_mean int8, n_low int8, n_high int8,
+	p_mean int8, p_low int8, p_high int8)`;
+
 /**
- * Adds deltas to the stored cells: reads the touched cells (amounts as exact integers), adds, deletes the
- * cells no record counts in any more and writes the rest back with the same arithmetic as a full build, so
- * the stored values are identical to a rebuild's. Returns false (and writes nothing) when a stored cell
- * does not agree with the deltas — a summary not maintained by these writers — and the caller recomputes.
+ * Adds deltas to the stored cells in place: each amount is read back as an exact integer, the delta added
+ * and the sum turned back with the same arithmetic as a full build, so the stored values are identical to
+ * a rebuild's. Only columns outside the indexes change, so PostgreSQL can update in place (HOT; the table
+ * leaves room on its pages for it). Cells that are new are inserted, cells no record counts in any more are
+ * deleted. Returns false when a stored cell does not agree with the deltas — a summary not maintained by
+ * these writers — and the caller recomputes the summary keys of the deltas (which cover every cell touched).
  */
 async function applyCellDeltas(db: Db, methodVersion: string, deltas: readonly CellRow[]): Promise<boolean> {
 	if (deltas.length === 0) return true;
-	const col = <T>(f: (c: CellRow) => T): T[] => deltas.map(f);
-	const keys = sql`unnest(${col((c) => c.fy_basis)}::text[], ${col((c) => c.basis)}::text[], ${col((c) => c.geo_level)}::text[],
-		${col((c) => c.practice_code)}::text[], ${col((c) => c.fy)}::int[], ${col((c) => c.district_id)}::int[], ${col((c) => c.geo)}::text[])
-		as k(fy_basis, basis, geo_level, practice_code, fy, district_id, geo)`;
-	const match = sql`c.method_version = ${methodVersion} and c.fy_basis = k.fy_basis and c.basis = k.basis and c.geo_level = k.geo_level
-		and c.practice_code = k.practice_code and c.fy = k.fy and c.district_id = k.district_id and c.geo = k.geo`;
-	const { rows } = await sql<CellRow>`
-		select c.fy_basis, c.basis, c.geo_level, c.fy, c.district_id, c.geo, c.practice_code, c.practices, c.operations,
-			(c.credited_acres * 10000)::int8::float8 as acres, (c.cost_usd * 100)::int8::float8 as cost,
-			(c.cost_share_usd * 100)::int8::float8 as cost_share,
-			(c.n_lb_mean * 1000000)::int8::float8 as n_mean, (c.n_lb_low * 1000000)::int8::float8 as n_low,
-			(c.n_lb_high * 1000000)::int8::float8 as n_high, (c.p_lb_mean * 1000000)::int8::float8 as p_mean,
-			(c.p_lb_low * 1000000)::int8::float8 as p_low, (c.p_lb_high * 1000000)::int8::float8 as p_high
-		from ${keys} join rollup_cells c on ${match}`.execute(db);
-	const stored = new Map(rows.map((r) => [cellId(r), r]));
-	const keep: CellRow[] = [];
-	for (const d of deltas) {
-		const s = stored.get(cellId(d));
-		const r: CellRow = { ...d, practices: d.practices + (s?.practices ?? 0), operations: d.operations + (s?.operations ?? 0) };
-		for (const k of AMOUNTS) r[k] = d[k] + (s?.[k] ?? 0);
+	const sums = STORED_AMOUNTS.map(
+		([column, amount, per]) =>
+			sql`${sql.ref(column)} = ((c.${sql.ref(column)} * ${sql.lit(per)})::int8 + k.${sql.ref(amount)}) * ${unitOf(per)}`
+	);
+	const { rows } = await sql<{ id: string; practices: number; operations: number; empty: boolean }>`
+		update rollup_cells c set practices = c.practices + k.practices, operations = c.operations + k.operations, ${sql.join(sums)}
+		from json_to_recordset(${JSON.stringify(deltas)}::json) as ${DELTA_COLUMNS}
+		where c.method_version = ${methodVersion} and c.fy_basis = k.fy_basis and c.basis = k.basis and c.geo_level = k.geo_level
+			and c.practice_code = k.practice_code and c.fy = k.fy and c.district_id = k.district_id and c.geo = k.geo
+		returning concat_ws('|', c.district_id, c.fy_basis, c.basis, c.fy, c.geo_level, c.geo, c.practice_code) as id,
+			c.practices, c.operations, (${sql.join(
+				STORED_AMOUNTS.map(([column]) => sql`c.${sql.ref(column)} = 0`),
+				sql` and `
+			)}) as empty`.execute(db);
+	const updated = new Set<string>();
+	const emptied: CellRow[] = [];
+	const byId = new Map(deltas.map((d) => [cellId(d), d]));
+	for (const r of rows) {
 		if (r.practices < 0 || r.operations < 0 || (r.practices === 0) !== (r.operations === 0)) return false;
-		if (r.practices > 0) keep.push(r);
-		else if (AMOUNTS.some((k) => r[k] !== 0)) return false;
+		if (r.practices === 0) {
+			if (!r.empty) return false;
+			emptied.push(byId.get(r.id)!);
+		}
+		updated.add(r.id);
 	}
-	await sql`delete from rollup_cells c using ${keys} where ${match}`.execute(db);
-	await insertCells(db, methodVersion, keep);
+	const added: CellRow[] = [];
+	for (const [id, d] of byId) {
+		if (updated.has(id)) continue;
+		if (d.practices < 0 || d.operations < 0 || (d.practices === 0) !== (d.operations === 0)) return false;
+		if (d.practices > 0) added.push(d);
+		else if (AMOUNTS.some((k) => d[k] !== 0)) return false;
+	}
+	if (emptied.length > 0)
+		await sql`
+			delete from rollup_cells c using json_to_recordset(${JSON.stringify(emptied)}::json) as ${DELTA_COLUMNS}
+			where c.method_version = ${methodVersion} and c.fy_basis = k.fy_basis and c.basis = k.basis and c.geo_level = k.geo_level
+				and c.practice_code = k.practice_code and c.fy = k.fy and c.district_id = k.district_id and c.geo = k.geo`.execute(db);
+	await insertCells(db, methodVersion, added);
 	return true;
 }
 
@@ -460,8 +503,15 @@ async function refreshFacts(db: Db, method: ReductionMethod, ids: readonly strin
 	const change = await writeFactsReturningChanges(db, facts);
 	const summaryStarted = performance.now();
 	refreshClock.estimatesMs += summaryStarted - started;
+	// The operations' other records are read while the deltas are worked out: operationsMoved is a cheap
+	// superset of the operations cellDeltas asks about (any it missed would be read after).
+	const moved = operationsMoved(change.before, change.after);
+	const reading = loadOperationFootprints(db, method.version, moved, change.changed);
+	reading.catch(() => {}); // awaited below; this only keeps a failure from counting as unhandled meanwhile
 	const pending = cellDeltas(change.before, change.after);
-	const others = await loadOperationFootprints(db, method.version, pending.operations, change.changed);
+	const read = new Set(moved.map((o) => `${o.district_id}|${o.operation_key}`));
+	const missed = pending.operations.filter((o) => !read.has(`${o.district_id}|${o.operation_key}`));
+	const others = [...(await reading), ...(await loadOperationFootprints(db, method.version, missed, change.changed))];
 	const deltas = pending.finish(others);
 	if (!(await applyCellDeltas(db, method.version, deltas))) await recomputeCells(db, method.version, dedupeKeys(deltas));
 	refreshClock.summaryMs += performance.now() - summaryStarted;
