@@ -350,6 +350,9 @@ interface Run {
 	practice_code: string;
 	/** Changed facts counting, per FY (differences). */
 	touched: Int32Array;
+	/** The FY indexes holding any difference: from `first` up to, not including, `end`. */
+	first: number;
+	end: number;
 	/** SLOTS numbers per FY (differences). */
 	sums: Float64Array;
 	/** Operation number → its row in `opCounts`. */
@@ -405,6 +408,8 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 		geo,
 		practice_code,
 		touched: new Int32Array(slots),
+		first: slots,
+		end: 0,
 		sums: new Float64Array(slots * SLOTS),
 		opRows: new Map(),
 		opCounts: new Float64Array(slots * 8)
@@ -433,6 +438,8 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 		const at = opAt(run, op);
 		const start = from - lo;
 		const end = to - lo + 1;
+		if (start < run.first) run.first = start;
+		if (end + 1 > run.end) run.end = end + 1;
 		run.touched[start]++;
 		run.touched[end]--;
 		run.opCounts[at + start] += one;
@@ -485,12 +492,15 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 	}
 	// Coarser runs: each the sum of its finer runs.
 	const merge = (into: Run, from: Run) => {
-		for (let i = 0; i < slots; i++) into.touched[i] += from.touched[i];
-		for (let i = 0; i < into.sums.length; i++) into.sums[i] += from.sums[i];
+		const { first, end } = from;
+		if (first < into.first) into.first = first;
+		if (end > into.end) into.end = end;
+		for (let i = first; i < end; i++) into.touched[i] += from.touched[i];
+		for (let i = first * SLOTS; i < end * SLOTS; i++) into.sums[i] += from.sums[i];
 		for (const [op, row] of from.opRows) {
 			const at = opAt(into, op);
 			const counts = into.opCounts;
-			for (let i = 0; i < slots; i++) counts[at + i] += from.opCounts[row * slots + i];
+			for (let i = first; i < end; i++) counts[at + i] += from.opCounts[row * slots + i];
 		}
 	};
 	const runs: Run[] = [];
@@ -520,7 +530,7 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 		const sums = new Float64Array(SLOTS);
 		const ops = [...run.opRows.keys()];
 		const counts = new Float64Array(ops.length);
-		for (let i = 0; i < years; i++) {
+		for (let i = run.first; i < run.end; i++) {
 			touched += run.touched[i];
 			for (let k = 0; k < SLOTS; k++) sums[k] += run.sums[i * SLOTS + k];
 			for (let j = 0; j < ops.length; j++) counts[j] += run.opCounts[j * slots + i];
