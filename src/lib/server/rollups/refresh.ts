@@ -14,8 +14,8 @@
 //   state FY start month.
 //
 // Every write takes the same transaction-level advisory lock, so a batch commit and a rebuild chunk never
-// interleave on the same rows. Everything is set-based (unnest arrays, one statement per step) and every
-// amount is an exact integer (rollup-cells.ts), so patched cells are identical to rebuilt ones.
+// interleave on the same rows. Everything is set-based (unnest arrays or json_to_recordset, one statement per
+// step) and every amount is an exact integer (rollup-cells.ts), so patched cells are identical to rebuilt ones.
 import { sql, type Kysely, type Transaction } from 'kysely';
 import type { Database } from '../db/schema';
 import { recordFacts, type FactRecord, type RecordFact } from '$lib/domain/rollup-facts';
