@@ -291,17 +291,7 @@ export interface PendingDeltas {
  */
 export function operationsMoved(before: Iterable<CellFact>, after: Iterable<CellFact>): OperationQuestion[] {
 	const place = (f: CellFact) =>
-		[
-			f.county_fips,
-			f.huc8 ?? '',
-			f.practice_code,
-			f.state.installed,
-			f.state.first,
-			f.state.last,
-			f.federal.installed,
-			f.federal.first,
-			f.federal.last
-		].join(',');
+		`${f.county_fips},${f.huc8 ?? ''},${f.practice_code},${f.state.installed},${f.state.first},${f.state.last},${f.federal.installed},${f.federal.first},${f.federal.last}`;
 	// (district, operation) → place → after count minus before count.
 	const balance = new Map<string, { question: OperationQuestion; places: Map<string, number> }>();
 	const count = (f: CellFact, n: number) => {
@@ -569,18 +559,23 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 	return {
 		operations: [...asked].map((op) => operationOf[op]),
 		finish(others) {
-			const byOperation = new Map<number, CellFact[]>();
+			// Each operation's other records, all of them and by practice (a practice's cells need look at no other).
+			const byOperation = new Map<number, { all: CellFact[]; byPractice: Map<string, CellFact[]> }>();
 			for (const f of others) {
 				const op = operations.ids.get(`${f.district_id}|${f.operation_key}`);
 				if (op === undefined || !asked.has(op)) continue;
-				const list = byOperation.get(op);
+				let o = byOperation.get(op);
+				if (!o) byOperation.set(op, (o = { all: [], byPractice: new Map() }));
+				o.all.push(f);
+				const list = o.byPractice.get(f.practice_code);
 				if (list) list.push(f);
-				else byOperation.set(op, [f]);
+				else o.byPractice.set(f.practice_code, [f]);
 			}
 			const out: CellRow[] = [];
 			for (const { row, flips } of cells) {
 				for (let j = 0; j < flips.length; j += 2) {
-					const list = byOperation.get(flips[j]);
+					const o = byOperation.get(flips[j]);
+					const list = o && (row.practice_code === '*' ? o.all : o.byPractice.get(row.practice_code));
 					if (list && list.some((f) => countsIn(f, row))) continue;
 					row.operations += flips[j + 1] % OPS_SIDE > 0 ? 1 : -1;
 				}
