@@ -72,6 +72,18 @@ function toRecord(localId: string, r: ArbRecord): TestRecord {
 	};
 }
 
+/** One bioreactor on its own (no field, no HUC), for the tests that tamper with a district's cells. */
+const oneBioreactor: ArbRecord = {
+	practice_code: '605',
+	county_fips: '19001',
+	installed_on: '2024-09-01',
+	acres: 50,
+	field_id: null,
+	operation_id: 'op-a',
+	huc12: null,
+	cost: 100
+};
+
 async function snapshot(districtId: number) {
 	const cells = await sql`select * from rollup_cells where method_version = ${method} and district_id = ${districtId}
 		order by fy_basis, basis, geo_level, fy, geo, practice_code`.execute(db);
@@ -163,18 +175,7 @@ describe('incremental maintenance = full rebuild', () => {
 
 	it('a stored cell whose counts cannot be right after the deltas is recomputed too', async () => {
 		const districtId = await createDistrict(db, 'RTG', 'Rollup bad-count district', 'Rollup Test Region', COUNTIES);
-		const [id] = await insertRecords(db, districtId, [
-			toRecord('G1', {
-				practice_code: '605',
-				county_fips: '19001',
-				installed_on: '2024-09-01',
-				acres: 50,
-				field_id: null,
-				operation_id: 'op-a',
-				huc12: null,
-				cost: 100
-			})
-		]);
+		const [id] = await insertRecords(db, districtId, [toRecord('G1', oneBioreactor)]);
 		// Hand-edited cells: practices but no operations. A change of acres moves neither count, so patching
 		// would keep the impossible pair; the refresh must see it and recompute.
 		await sql`update rollup_cells set operations = 0 where method_version = ${method} and district_id = ${districtId}`.execute(db);
@@ -186,18 +187,7 @@ describe('incremental maintenance = full rebuild', () => {
 
 	it('the summary is never read from the records: cells stay as stored when records change behind the hook', async () => {
 		const districtId = await createDistrict(db, 'RTQ', 'Rollup direct-write district', 'Rollup Test Region', COUNTIES);
-		const [id] = await insertRecords(db, districtId, [
-			toRecord('Q1', {
-				practice_code: '605',
-				county_fips: '19001',
-				installed_on: '2024-09-01',
-				acres: 50,
-				field_id: null,
-				operation_id: 'op-a',
-				huc12: null,
-				cost: 100
-			})
-		]);
+		const [id] = await insertRecords(db, districtId, [toRecord('Q1', oneBioreactor)]);
 		const before = await snapshot(districtId);
 		// A write that skips the hook (not how the app writes): the summary does not move until a rebuild.
 		await db.updateTable('records').set({ drainage_area_acres: 500 }).where('id', '=', id).execute();

@@ -371,26 +371,31 @@ async function applyCellDeltas(db: Db, methodVersion: string, deltas: readonly C
 		([column, amount, per]) =>
 			sql`${sql.ref(column)} = ((c.${sql.ref(column)} * ${sql.lit(per)})::int8 + k.${sql.ref(amount)}) * ${unitOf(per)}`
 	);
-	const { rows } = await sql<{ id: string; practices: number; operations: number; empty: boolean }>`
+	const sameCell = sql`c.method_version = ${methodVersion} and c.fy_basis = k.fy_basis and c.basis = k.basis
+		and c.geo_level = k.geo_level and c.practice_code = k.practice_code and c.fy = k.fy and c.district_id = k.district_id and c.geo = k.geo`;
+	type Updated = Pick<
+		CellRow,
+		'fy_basis' | 'basis' | 'geo_level' | 'fy' | 'district_id' | 'geo' | 'practice_code' | 'practices' | 'operations'
+	>;
+	const { rows } = await sql<Updated & { empty: boolean }>`
 		update rollup_cells c set practices = c.practices + k.practices, operations = c.operations + k.operations, ${sql.join(sums)}
 		from json_to_recordset(${JSON.stringify(deltas)}::json) as ${DELTA_COLUMNS}
-		where c.method_version = ${methodVersion} and c.fy_basis = k.fy_basis and c.basis = k.basis and c.geo_level = k.geo_level
-			and c.practice_code = k.practice_code and c.fy = k.fy and c.district_id = k.district_id and c.geo = k.geo
-		returning concat_ws('|', c.district_id, c.fy_basis, c.basis, c.fy, c.geo_level, c.geo, c.practice_code) as id,
-			c.practices, c.operations, (${sql.join(
-				STORED_AMOUNTS.map(([column]) => sql`c.${sql.ref(column)} = 0`),
-				sql` and `
-			)}) as empty`.execute(db);
+		where ${sameCell}
+		returning c.fy_basis, c.basis, c.geo_level, c.fy, c.district_id, c.geo, c.practice_code, c.practices, c.operations, (${sql.join(
+			STORED_AMOUNTS.map(([column]) => sql`c.${sql.ref(column)} = 0`),
+			sql` and `
+		)}) as empty`.execute(db);
 	const updated = new Set<string>();
 	const emptied: CellRow[] = [];
 	const byId = new Map(deltas.map((d) => [cellId(d), d]));
 	for (const r of rows) {
 		if (r.practices < 0 || r.operations < 0 || (r.practices === 0) !== (r.operations === 0)) return false;
+		const id = cellId(r);
 		if (r.practices === 0) {
 			if (!r.empty) return false;
-			emptied.push(byId.get(r.id)!);
+			emptied.push(byId.get(id)!);
 		}
-		updated.add(r.id);
+		updated.add(id);
 	}
 	const added: CellRow[] = [];
 	for (const [id, d] of byId) {
@@ -402,8 +407,7 @@ async function applyCellDeltas(db: Db, methodVersion: string, deltas: readonly C
 	if (emptied.length > 0)
 		await sql`
 			delete from rollup_cells c using json_to_recordset(${JSON.stringify(emptied)}::json) as ${DELTA_COLUMNS}
-			where c.method_version = ${methodVersion} and c.fy_basis = k.fy_basis and c.basis = k.basis and c.geo_level = k.geo_level
-				and c.practice_code = k.practice_code and c.fy = k.fy and c.district_id = k.district_id and c.geo = k.geo`.execute(db);
+			where ${sameCell}`.execute(db);
 	await insertCells(db, methodVersion, added);
 	return true;
 }
