@@ -1,6 +1,6 @@
 // XLSX reading through exceljs's streaming reader, and the ZIP checks in front of it.
 import ExcelJS from 'exceljs';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -68,6 +68,63 @@ describe('XLSX rows', () => {
 		expect(rows(ev).map((x) => x.values)).toEqual([{ data: 'data-row' }]);
 		const notes = await read(bytes, { sheet: 'Notes' });
 		expect(rows(notes).map((x) => x.values)).toEqual([{ notes: 'notes-row' }]);
+	});
+
+	it('reads sheets stored before the shared strings, styles and workbook parts, with no temporary files', async () => {
+		// Writers may store the sheets first and xl/workbook.xml last. Every sheet here uses shared strings
+		// and a date style stored after it; the reader must still read both sheets right, and leave nothing
+		// behind in the temporary folder (exceljs spools such sheets to tmp-<pid>-… files of its own).
+		const ns = 'xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"';
+		const r = 'xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"';
+		const sheet = (first: number) =>
+			Buffer.from(
+				`<?xml version="1.0"?><worksheet ${ns}><sheetData><row r="1"><c r="A1" t="s"><v>${first}</v></c><c r="B1" t="s"><v>2</v></c></row>` +
+					`<row r="2"><c r="A2" t="s"><v>${first + 3}</v></c><c r="B2" s="1"><v>45351</v></c></row></sheetData></worksheet>`
+			);
+		const strings = ['local_id', 'note', 'installed_on', 'A-1', 'note-row'];
+		const bytes = makeZip([
+			MINIMAL_PARTS[0],
+			{
+				name: 'xl/_rels/workbook.xml.rels',
+				data: Buffer.from(
+					'<?xml version="1.0"?><Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships"><Relationship Id="rId1" Type="http://schemas.openxmlformats.org/officeDocument/2006/relationships/worksheet" Target="worksheets/sheet1.xml"/><Relationship Id="rId2" Type="http://schemas.openxmlformats.org/officeDocument/2006/relationships/worksheet" Target="worksheets/sheet2.xml"/></Relationships>'
+				)
+			},
+			{ name: 'xl/worksheets/sheet1.xml', data: sheet(1) },
+			{ name: 'xl/worksheets/sheet2.xml', data: sheet(0) },
+			{
+				name: 'xl/sharedStrings.xml',
+				data: Buffer.from(
+					`<?xml version="1.0"?><sst ${ns} count="5" uniqueCount="5">${strings.map((t) => `<si><t>${t}</t></si>`).join('')}</sst>`
+				)
+			},
+			{
+				name: 'xl/styles.xml',
+				data: Buffer.from(
+					`<?xml version="1.0"?><styleSheet ${ns}><fonts count="1"><font/></fonts><fills count="1"><fill/></fills><borders count="1"><border/></borders>` +
+						'<cellXfs count="2"><xf numFmtId="0"/><xf numFmtId="14" applyNumberFormat="1"/></cellXfs></styleSheet>'
+				)
+			},
+			{
+				name: 'xl/workbook.xml',
+				data: Buffer.from(
+					`<?xml version="1.0"?><workbook ${ns} ${r}><sheets><sheet name="Notes" sheetId="1" r:id="rId1"/><sheet name="Records" sheetId="2" r:id="rId2"/></sheets></workbook>`
+				)
+			}
+		]);
+		const ours = () => new Set(readdirSync(os.tmpdir()).filter((n) => n.startsWith(`tmp-${process.pid}-`)));
+		const before = ours();
+		const records = await read(bytes, { sheet: 'Records' });
+		expect(records[0]).toMatchObject({ sheet: 'Records' });
+		expect(records[1]).toMatchObject({ kind: 'header', columns: ['local_id', 'installed_on'] });
+		const [row] = rows(records);
+		expect(row.values.local_id).toBe('A-1');
+		// 45351 days after 1899-12-30 (the spreadsheet epoch, ECMA-376 Part 1 §18.17.4.1) is 2024-02-29.
+		expect(row.values.installed_on).toEqual(new Date(Date.UTC(2024, 1, 29)));
+		const notes = await read(bytes);
+		expect(notes[0]).toMatchObject({ sheet: 'Notes' });
+		expect(rows(notes).map((x) => x.values.note)).toEqual(['note-row']);
+		expect([...ours()].filter((n) => !before.has(n))).toEqual([]);
 	});
 
 	it('reads a named sheet, and says which sheets exist when the name is wrong', async () => {

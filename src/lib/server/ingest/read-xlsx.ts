@@ -3,12 +3,12 @@
 // then streams it row by row. Formulas are never evaluated: a formula cell is read as its formula
 // text (`=HYPERLINK(…)`) and the checker flags it (`formula-in-cell`).
 import { createReadStream, createWriteStream } from 'node:fs';
-import { mkdtemp, open, rm } from 'node:fs/promises';
+import { mkdtemp, rm } from 'node:fs/promises';
 import os from 'node:os';
 import path from 'node:path';
 import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
-import { inflateRawSync } from 'node:zlib';
+import { createInflateRaw } from 'node:zlib';
 import type { Finding } from '../../schema/findings';
 import { cellRef } from '../../domain/cell-ref';
 import { byteChunks } from './decode';
@@ -45,18 +45,22 @@ interface StreamingWorkbookReader extends AsyncIterable<StreamingWorksheet> {
 	// exceljs's own parsers of the workbook part and its relationships (they read any byte stream).
 	_parseWorkbook(entry: Readable): Promise<void>;
 	_parseRels(entry: Readable): Promise<void>;
+	_parseStyles(entry: Readable): Promise<void>;
+	_parseSharedStrings(entry: Readable): AsyncIterable<unknown>;
+	options: { styles: string; sharedStrings: string };
+	workbookRels?: unknown[];
+	sharedStrings?: unknown[];
 }
 
-/** One (small) part of a checked archive, read from the data range zip-guard found for its entry. */
-async function readPart(file: string, e: ZipEntryInfo): Promise<Buffer> {
-	const fh = await open(file, 'r');
-	try {
-		const data = Buffer.alloc(e.compressedSize);
-		await fh.read(data, 0, e.compressedSize, e.dataStart);
-		return e.method === 8 ? inflateRawSync(data, { maxOutputLength: e.uncompressedSize + 1 }) : data;
-	} finally {
-		await fh.close();
-	}
+/** One part of a checked archive (zip-guard has inflated it once within its declared size), streamed and
+ * inflated from the data range zip-guard found for its entry. */
+function partStream(file: string, e: ZipEntryInfo): Readable {
+	if (e.compressedSize === 0) return Readable.from([]);
+	const raw = createReadStream(file, { start: e.dataStart, end: e.dataStart + e.compressedSize - 1 });
+	if (e.method !== 8) return raw;
+	const inflate = createInflateRaw();
+	raw.on('error', (err) => inflate.destroy(err));
+	return raw.pipe(inflate);
 }
 interface StreamingWorksheet extends AsyncIterable<{ number: number; values: unknown[] }> {
 	name: string;
@@ -107,20 +111,28 @@ export async function* readXlsx(input: Input, opts: ReadOptions, limits: ReadLim
 			hyperlinks: 'ignore',
 			styles: 'cache', // needed to tell date cells from numbers
 			entries: 'ignore'
-		}) as unknown as StreamingWorkbookReader & { sharedStrings?: unknown[] };
+		}) as unknown as StreamingWorkbookReader;
 		// exceljs's single streaming pass does not reliably deliver the archive's last entry before it parses
 		// the sheets (exceljs issue #3064: "Cannot read properties of undefined (reading 'sheets')", seen here
-		// under load), and spreadsheet writers often store xl/workbook.xml last. So the workbook part and its
-		// relationships (small; the archive has passed zip-guard) are read first through the central
-		// directory and handed to exceljs's own parsers: sheet names are known before any sheet streams.
+		// under load), and spreadsheet writers often store xl/workbook.xml last. And when a sheet comes before
+		// the shared strings, exceljs spools it to a temporary file of its own, which it deletes racing the
+		// reader it has just opened on it when we skip that sheet (an uncaught ENOENT), and never deletes when
+		// we stop early (a leak until the process exits). So every part a sheet depends on — relationships,
+		// workbook, styles (they tell dates from numbers), shared strings — is read first, through the central
+		// directory, by exceljs's own parsers, and the same entries are skipped when the single pass meets
+		// them: the sheets then stream straight from the archive, with no temporary files.
 		const partOf = (name: string) => verdict.entries.find((e) => e.name === name);
 		const relsPart = partOf('xl/_rels/workbook.xml.rels');
-		if (relsPart) await reader._parseRels(Readable.from([await readPart(file, relsPart)]));
-		await reader._parseWorkbook(Readable.from([await readPart(file, partOf('xl/workbook.xml')!)]));
-		// exceljs 4.4 also sets sheets aside until xl/sharedStrings.xml has been read, and loses all but the
-		// first of them when the workbook has no shared strings at all (inline strings only). Such a workbook
-		// has nothing to wait for: let exceljs read its sheets as they stream past.
-		if (!partOf('xl/sharedStrings.xml')) reader.sharedStrings = [];
+		if (relsPart) await reader._parseRels(partStream(file, relsPart));
+		else reader.workbookRels = [];
+		await reader._parseWorkbook(partStream(file, partOf('xl/workbook.xml')!));
+		const stylesPart = partOf('xl/styles.xml');
+		if (stylesPart) await reader._parseStyles(partStream(file, stylesPart));
+		const stringsPart = partOf('xl/sharedStrings.xml');
+		if (stringsPart) for await (const _ of reader._parseSharedStrings(partStream(file, stringsPart)));
+		else reader.sharedStrings = [];
+		reader.options.styles = 'ignore';
+		reader.options.sharedStrings = 'ignore';
 		const seen: string[] = [];
 		let found = false;
 		try {
