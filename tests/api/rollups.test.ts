@@ -13,6 +13,7 @@ import { createMethod, getMethod, setActiveMethod } from '$lib/server/methods';
 import { rebuildMethod } from '$lib/server/rollups/refresh';
 import { hashToken } from '$lib/server/auth/tokens';
 import { DEFAULT_METHOD, type ReductionMethod } from '$lib/domain/reduction-method';
+import { RollupMeasures, RollupResponse } from '$lib/schema/rollups';
 import { appHandler, bearer, DEMO_TOKENS } from '../helpers/app';
 import { createDistrict, createTokenUser, insertRecords, updateRecords, type TestRecord } from '../helpers/rollup-fixtures';
 
@@ -292,6 +293,36 @@ describe('one county × FY × practice cell, recomputed by hand', () => {
 		// HUC-8 07080105 in FY2025 holds A1 and A2: one operation each, so 2 distinct operations.
 		const h = huc.cells.find((c: { huc8: string; fy: number }) => c.huc8 === '07080105' && c.fy === 2025);
 		expect(h.operations).toBe(2);
+	});
+
+	it('every cell has exactly the published fields for its grouping, names included, and parses with the schema', async () => {
+		const res = await rollup('group=county,fy,practice|district,fy|huc8,fy&fy=2024..2026&district=RTA');
+		expect(res.status).toBe(200);
+		expect(() => RollupResponse.parse(res.body)).not.toThrow();
+		const [byCounty, byDistrict, byHuc] = res.body.groupings as { cells: Record<string, unknown>[] }[];
+		const measures = Object.keys(RollupMeasures.shape);
+		const keys = (c: Record<string, unknown>) => Object.keys(c).sort();
+		expect(byCounty.cells.length).toBeGreaterThan(0);
+		for (const c of byCounty.cells) {
+			expect(keys(c)).toEqual([...measures, 'fy', 'county_fips', 'county_name', 'practice_code', 'practice_name'].sort());
+			// County names from the Census county list (Story 19169, Boone 19015); practice names from the practices table.
+			expect(c.county_name).toBe({ '19169': 'Story', '19015': 'Boone' }[c.county_fips as string]);
+			const practice = await db
+				.selectFrom('practices')
+				.select('name')
+				.where('code', '=', c.practice_code as string)
+				.executeTakeFirstOrThrow();
+			expect(c.practice_name).toBe(practice.name);
+		}
+		expect(byDistrict.cells.length).toBeGreaterThan(0);
+		for (const c of byDistrict.cells) {
+			expect(keys(c)).toEqual([...measures, 'fy', 'district_id', 'district_code', 'district_name'].sort());
+			expect(c).toMatchObject({ district_id: districtA, district_code: 'RTA', district_name: 'Rollup Test District A' });
+		}
+		for (const c of byHuc.cells) expect(keys(c)).toEqual([...measures, 'fy', 'huc8'].sort());
+		// Cells come in key order: FY, then the grouping's place, then practice.
+		const order = byCounty.cells.map((c) => `${c.fy}|${c.county_fips}|${c.practice_code}`);
+		expect(order).toEqual([...order].sort());
 	});
 });
 
