@@ -13,7 +13,6 @@ import {
 	DEFAULT_FY_SPAN,
 	type Grouping,
 	type RollupCell,
-	type RollupGroupingResult,
 	type RollupPending,
 	type RollupQuery,
 	type RollupResponse,
@@ -23,33 +22,8 @@ import { activeMethodVersion, loadMethod } from './method-source';
 import { isCurrent, requestRebuild, summaryState } from './refresh';
 import { SETTING_KEYS, smallCellKOf, stateFyStartMonthOf } from './settings';
 
-/** A grouping's cells: built here (researchers), or the JSON array text the database built (groupingJsonSql). */
-export type AnswerCells = RollupCell[] | { json: string };
-/** A rollup answer: the API response, with each grouping's cells possibly still JSON text. */
-export type RollupAnswer = Omit<RollupResponse, 'groupings'> & {
-	groupings: Array<Omit<RollupGroupingResult, 'cells'> & { cells: AnswerCells }>;
-};
-
 export type RollupOutcome =
-	{ kind: 'ready'; response: RollupAnswer; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
-
-/** The answer as objects (for the CSV and XLSX exports). */
-export function answerObject(a: RollupAnswer): RollupResponse {
-	return {
-		...a,
-		groupings: a.groupings.map((g) => ({ ...g, cells: Array.isArray(g.cells) ? g.cells : (JSON.parse(g.cells.json) as RollupCell[]) }))
-	};
-}
-
-/** The answer as JSON text: database-built cells are passed through as they are, never parsed. */
-export function answerText(a: RollupAnswer): string {
-	const { groupings, ...head } = a;
-	const parts = groupings.map(
-		(g) =>
-			`{"group":${JSON.stringify(g.group)},"cells":${Array.isArray(g.cells) ? JSON.stringify(g.cells) : g.cells.json},"totals":${JSON.stringify(g.totals)}}`
-	);
-	return `${JSON.stringify(head).slice(0, -1)},"groupings":[${parts.join(',')}]}`;
-}
+	{ kind: 'ready'; response: RollupResponse; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
 
 interface Lookups {
 	counties: Map<string, string>;
@@ -61,10 +35,9 @@ type RefreshRow = Awaited<ReturnType<typeof summaryState>>;
 
 /**
  * Everything a rollup request needs besides the cells, in one statement (one round trip): the settings it
- * reads, every method's summary state, the districts, and — for answers built here rather than by the
- * database (researchers') — the names of counties (hub state) and practices.
+ * reads, every method's summary state, and the names of counties (hub state), practices and districts.
  */
-async function readContext(db: Kysely<Database>, withNames: boolean) {
+async function readContext(db: Kysely<Database>) {
 	const keys = [SETTING_KEYS.stateFyStartMonth, SETTING_KEYS.smallCellK, SETTING_KEYS.hubStateFips, SETTING_KEYS.activeMethod];
 	const { rows } = await sql<{
 		settings: Record<string, unknown> | null;
@@ -76,13 +49,9 @@ async function readContext(db: Kysely<Database>, withNames: boolean) {
 		select
 			(select json_object_agg(key, value) from settings where key = any(${keys}::text[])) as settings,
 			(select json_agg(r) from rollup_refresh r) as states,
-			${
-				withNames
-					? sql`(select json_agg(json_build_array(fips, name)) from counties
-				where state_fips = coalesce((select lpad(value #>> '{}', 2, '0') from settings where key = ${SETTING_KEYS.hubStateFips}), '19'))`
-					: sql`null`
-			} as counties,
-			${withNames ? sql`(select json_agg(json_build_array(code, name)) from practices)` : sql`null`} as practices,
+			(select json_agg(json_build_array(fips, name)) from counties
+				where state_fips = coalesce((select lpad(value #>> '{}', 2, '0') from settings where key = ${SETTING_KEYS.hubStateFips}), '19')) as counties,
+			(select json_agg(json_build_array(code, name)) from practices) as practices,
 			(select json_agg(json_build_array(id, code, name, region)) from districts) as districts`.execute(db);
 	const r = rows[0];
 	const settings = new Map(Object.entries(r.settings ?? {}));
@@ -194,68 +163,17 @@ function where(src: CellSource, geoLevel: string, byPractice: boolean): RawBuild
 	return sql.join(parts, sql` and `);
 }
 
-/** The summary columns a grouping's cells are keyed (and ordered) by. */
-function groupingKeys(g: Grouping): string[] {
-	const keys = ['fy'];
-	if (g.dims.includes('district')) keys.push('district_id');
-	if (g.dims.includes('county') || g.dims.includes('huc8')) keys.push('geo');
-	if (g.dims.includes('practice')) keys.push('practice_code');
-	return keys;
-}
-
 /** The SQL a grouping reads (exported so the benchmark can time the bare summary read). */
 export function groupingSql(g: Grouping, src: CellSource): RawBuilder<MeasureRow & Record<string, unknown>> {
 	const { geoLevel, byPractice } = sourceLevel(g, src);
-	const keyList = sql.join(groupingKeys(g).map((k) => sql.ref(k)));
+	const keys: RawBuilder<unknown>[] = [sql`fy`];
+	if (g.dims.includes('district')) keys.push(sql`district_id`);
+	if (g.dims.includes('county') || g.dims.includes('huc8')) keys.push(sql`geo`);
+	if (g.dims.includes('practice')) keys.push(sql`practice_code`);
+	const keyList = sql.join(keys);
 	return sql<MeasureRow & Record<string, unknown>>`
 		select ${keyList}, ${MEASURES} from rollup_cells where ${where(src, geoLevel, byPractice)}
 		group by ${keyList} order by ${keyList}`;
-}
-
-const MEASURE_NAMES = [
-	'practices',
-	'operations',
-	'credited_acres',
-	'cost_usd',
-	'cost_share_usd',
-	'n_lb_yr_mean',
-	'n_lb_yr_low',
-	'n_lb_yr_high',
-	'p_lb_yr_mean',
-	'p_lb_yr_low',
-	'p_lb_yr_high',
-	'usd_per_lb_n'
-] as const;
-
-/**
- * A grouping's cells as one JSON array (text), built by the database around the grouping's own read
- * (groupingSql) with the names joined in: each cell exactly as the API publishes it (RollupCell), in the
- * grouping's order. The API passes the text through; CSV and XLSX exports parse it (answerObject).
- */
-export function groupingJsonSql(g: Grouping, src: CellSource): RawBuilder<{ cells: string }> {
-	const { geoLevel } = sourceLevel(g, src);
-	const fields: RawBuilder<unknown>[] = [sql`'fy', t.fy`, ...MEASURE_NAMES.map((m) => sql`${sql.lit(m)}, ${sql.ref(`t.${m}`)}`)];
-	const joins: RawBuilder<unknown>[] = [];
-	if (g.dims.includes('district')) {
-		fields.push(
-			sql`'district_id', t.district_id, 'district_code', coalesce(d.code, t.district_id::text), 'district_name', coalesce(d.name, '')`
-		);
-		joins.push(sql`left join districts d on d.id = t.district_id`);
-	}
-	if (g.dims.includes('county') && geoLevel === 'county') {
-		fields.push(sql`'county_fips', t.geo, 'county_name', c.name`);
-		joins.push(sql`left join counties c on c.fips = t.geo`);
-	}
-	if (g.dims.includes('huc8')) fields.push(sql`'huc8', nullif(t.geo, '')`);
-	if (g.dims.includes('practice')) {
-		fields.push(sql`'practice_code', t.practice_code, 'practice_name', coalesce(p.name, '')`);
-		joins.push(sql`left join practices p on p.code = t.practice_code`);
-	}
-	const order = sql.join(groupingKeys(g).map((k) => sql.ref(`t.${k}`)));
-	// ::text: the driver hands the array over as text (it would parse json).
-	return sql<{ cells: string }>`
-		select coalesce(json_agg(json_build_object(${sql.join(fields)}) order by ${order}), '[]')::text as cells
-		from (${groupingSql(g, src)}) as t ${joins.length ? sql.join(joins, sql` `) : sql``}`;
 }
 
 /** Totals per FY, read from the level that covers everything the grouping's cells cover. */
@@ -271,13 +189,9 @@ export function totalsSql(src: CellSource): RawBuilder<MeasureRow & { fy: number
 const ACTIVE_METHOD_SQL = sql<string>`coalesce((select value #>> '{}' from settings
 	where key = ${SETTING_KEYS.activeMethod} and jsonb_typeof(value) = 'string'), ${DEFAULT_METHOD.version})`;
 
-/** The totals and every grouping's cells (as JSON text): independent reads of the summary, run side by side. */
-async function readCells(db: Kysely<Database>, src: CellSource, groupings: readonly Grouping[]) {
-	const [totals, ...cells] = await Promise.all([totalsSql(src).execute(db), ...groupings.map((g) => groupingJsonSql(g, src).execute(db))]);
-	return {
-		totals: totals.rows as Array<MeasureRow & { fy: number; method_version?: string }>,
-		cells: cells.map((c) => (c.rows[0] as { cells: string }).cells)
-	};
+/** The totals and every grouping of a request: independent reads of the summary, run side by side. */
+function readCells(db: Kysely<Database>, src: CellSource, groupings: readonly Grouping[]) {
+	return Promise.all([totalsSql(src).execute(db), ...groupings.map((g) => groupingSql(g, src).execute(db))]);
 }
 
 function notesFor(method: ReductionMethod, q: RollupQuery, startMonth: number, researcher: boolean, k: number): string[] {
@@ -351,7 +265,7 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 	early?.catch(() => {}); // observed here; awaited (or dropped) below
 	// One round trip for settings, summary states and names; the asked district alongside.
 	const [{ settings, states, names }, asked] = await Promise.all([
-		readContext(db, researcher),
+		readContext(db),
 		q.district !== null ? resolveDistrict(db, q.district) : Promise.resolve(null)
 	]);
 	const active = settings.get(SETTING_KEYS.activeMethod);
@@ -405,7 +319,7 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		practice: q.practice
 	};
 	let smallCells: SmallCellCounts | null = null;
-	const groupings: RollupAnswer['groupings'] = [];
+	const groupings: RollupResponse['groupings'] = [];
 
 	if (researcher) {
 		const r = await researcherCells(db, src, k, names);
@@ -414,10 +328,34 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 	} else {
 		let read = early ? await early : null;
 		// Read again when the early statements saw another method version (switched in between) or no cells.
-		if (!read || read.totals.length === 0 || (!q.method && read.totals[0].method_version !== version))
+		if (!read || read[0].rows.length === 0 || (!q.method && read[0].rows[0].method_version !== version))
 			read = await readCells(db, src, q.groupings);
-		const totals = read.totals.map((t) => ({ fy: Number(t.fy), ...measures(t) }));
-		for (const [gi, g] of q.groupings.entries()) groupings.push({ group: g.dims, cells: { json: read.cells[gi] }, totals });
+		const [totalRows, ...perGrouping] = read;
+		const totals = totalRows.rows.map((t) => ({ fy: Number(t.fy), ...measures(t) }));
+		for (const [gi, g] of q.groupings.entries()) {
+			const rows = perGrouping[gi].rows;
+			const { geoLevel } = sourceLevel(g, src);
+			const cells: RollupCell[] = rows.map((r) => {
+				const cell: RollupCell = { fy: Number(r.fy), ...measures(r) };
+				if (g.dims.includes('district')) {
+					const d = names.districts.get(Number(r.district_id));
+					cell.district_id = Number(r.district_id);
+					cell.district_code = d?.code ?? String(r.district_id);
+					cell.district_name = d?.name ?? '';
+				}
+				if (g.dims.includes('county') && geoLevel === 'county') {
+					cell.county_fips = String(r.geo);
+					cell.county_name = names.counties.get(String(r.geo)) ?? null;
+				}
+				if (g.dims.includes('huc8')) cell.huc8 = r.geo === '' ? null : String(r.geo);
+				if (g.dims.includes('practice')) {
+					cell.practice_code = String(r.practice_code);
+					cell.practice_name = names.practices.get(String(r.practice_code)) ?? '';
+				}
+				return cell;
+			});
+			groupings.push({ group: g.dims, cells, totals });
+		}
 	}
 
 	return {

@@ -3,7 +3,7 @@ import { json } from '@sveltejs/kit';
 import { getDb } from '$lib/server/db';
 import { ApiError } from '$lib/server/http/problem';
 import { csvStream, exportFileName, xlsxStream, XLSX_TYPE } from '$lib/server/rollups/export';
-import { answerObject, answerText, runRollup } from '$lib/server/rollups/query';
+import { runRollup } from '$lib/server/rollups/query';
 import { parseRollupQuery } from '$lib/schema/rollups';
 import type { RequestHandler } from './$types';
 
@@ -19,30 +19,25 @@ export const GET: RequestHandler = async ({ url, locals }) => {
 	const researcher = principal.role === 'researcher';
 	const headers = { 'cache-control': 'private, no-store' };
 	switch (parsed.query.format) {
-		case 'csv': {
-			const response = answerObject(outcome.response);
-			return new Response(csvStream(response, researcher), {
+		case 'csv':
+			return new Response(csvStream(outcome.response, researcher), {
 				headers: {
 					...headers,
 					'content-type': 'text/csv; charset=utf-8',
-					'content-disposition': `attachment; filename="${exportFileName(response, 'csv')}"`
+					'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'csv')}"`
 				}
 			});
-		}
-		case 'xlsx': {
-			const response = answerObject(outcome.response);
-			return new Response(xlsxStream(response, outcome.method, researcher), {
+		case 'xlsx':
+			return new Response(xlsxStream(outcome.response, outcome.method, researcher), {
 				headers: {
 					...headers,
 					'content-type': XLSX_TYPE,
-					'content-disposition': `attachment; filename="${exportFileName(response, 'xlsx')}"`
+					'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'xlsx')}"`
 				}
 			});
-		}
 		default: {
-			// Encoded once, with its length (json() would encode the text twice: once to count it); the cells
-			// the database wrote as JSON go into it as they are.
-			const body = Buffer.from(answerText(outcome.response), 'utf8');
+			// Encoded once, with its length (json() would encode the text twice: once to count it).
+			const body = Buffer.from(JSON.stringify(outcome.response), 'utf8');
 			return new Response(body, {
 				headers: { ...headers, 'content-type': 'application/json', 'content-length': String(body.byteLength) }
 			});
