@@ -42,7 +42,7 @@ export async function run(): Promise<void> {
 	const { seedReference } = await import('../../seeds/reference');
 	const { hashToken } = await import('../../src/lib/server/auth/tokens');
 	const { getActiveMethodVersion } = await import('../../src/lib/server/methods');
-	const { rebuildMethod, refreshClock } = await import('../../src/lib/server/rollups/refresh');
+	const { rebuildDistricts, rebuildMethod, refreshClock } = await import('../../src/lib/server/rollups/refresh');
 	const { createBatch } = await import('../../src/lib/server/batches/create');
 	const { processBatch } = await import('../../src/lib/server/batches/process');
 	const { stopBoss } = await import('../../src/lib/server/batches/queue');
@@ -121,6 +121,28 @@ export async function run(): Promise<void> {
 	const genMs = performance.now() - t;
 
 	const version = await getActiveMethodVersion(db);
+	// An earlier run's (c) rounds left their records in district D153 (the generated records' operations, so
+	// they would make every later round's operations larger): remove them and rebuild that district's estimates
+	// and cells, so a run on a reused database starts where a fresh one does.
+	const d153 = await db.selectFrom('districts').select(['id', 'code']).where('code', '=', 'D153').executeTakeFirstOrThrow();
+	const leftover = sql`select id from records where district_id = ${d153.id} and local_id like 'batch-%'`;
+	const left = Number((await sql<{ n: string }>`select count(*) as n from (${leftover}) t`.execute(db)).rows[0].n);
+	if (left > 0) {
+		log(`Removing ${left.toLocaleString('en-US')} records an earlier run's batches left in ${d153.code}…`);
+		for (const table of [
+			'record_estimates',
+			'record_versions',
+			'record_findings',
+			'record_reviews',
+			'review_queue',
+			'verification_visits',
+			'practice_events'
+		] as const)
+			await sql`delete from ${sql.table(table)} where record_id in (${leftover})`.execute(db);
+		await sql`delete from records where id in (${leftover})`.execute(db);
+		await rebuildDistricts(db, version, [d153.id]);
+		await sql`vacuum analyze records, record_estimates, rollup_cells`.execute(db);
+	}
 	const state = await db.selectFrom('rollup_refresh').select('status').where('method_version', '=', version).executeTakeFirst();
 	let fullMs = NaN;
 	if (state?.status !== 'ready' || have < N || process.env.BENCH_REBUILD === '1') {
@@ -245,7 +267,7 @@ export async function run(): Promise<void> {
 	// through createBatch + processBatch — upload to a temp file, archive in object storage, stream back,
 	// parse, check, write in 1,000-row chunks — and times the whole intake. The summary refresh runs inside
 	// it (afterRecordsChanged, once per batch before it commits); its own time is read from refreshClock.
-	const district = await db.selectFrom('districts').select(['id', 'code']).where('code', '=', 'D153').executeTakeFirstOrThrow();
+	const district = d153;
 	const runId = Date.now().toString(36);
 	const tmp = mkdtempSync(path.join(os.tmpdir(), 'runnel-bench-rollups-'));
 	const admin = BENCH_PRINCIPAL;

@@ -6,7 +6,7 @@ import { sql } from 'kysely';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb, getDb } from '$lib/server/db';
 import { getActiveMethodVersion } from '$lib/server/methods';
-import { rebuildDistricts, rebuildMethod } from '$lib/server/rollups/refresh';
+import { CHUNK, rebuildDistricts, rebuildMethod } from '$lib/server/rollups/refresh';
 import { createDistrict, insertRecords, updateRecords, type TestRecord } from '../helpers/rollup-fixtures';
 
 const db = getDb();
@@ -55,7 +55,14 @@ const command = fc.oneof(
 
 type ArbRecord = typeof arbRecord extends fc.Arbitrary<infer T> ? T : never;
 
-function toRecord(localId: string, r: ArbRecord): TestRecord {
+/** A record's inputs: what arbRecord makes, with any field, operation or HUC-12. */
+type RecordInput = Omit<ArbRecord, 'field_id' | 'operation_id' | 'huc12'> & {
+	field_id: string | null;
+	operation_id: string | null;
+	huc12: string | null;
+};
+
+function toRecord(localId: string, r: RecordInput): TestRecord {
 	const edge = ['554', '604', '605', '656'].includes(r.practice_code);
 	return {
 		local_id: localId,
@@ -145,6 +152,39 @@ describe('incremental maintenance = full rebuild', () => {
 		);
 		// Sixteen random histories of up to fourteen transactions each: minutes on a machine busy with other suites.
 	}, 300_000);
+
+	it('a change larger than one write chunk: estimates written in several statements, operations read between them', async () => {
+		const districtId = await createDistrict(db, 'RTC', 'Rollup chunked district', 'Rollup Test Region', COUNTIES);
+		// The second insert alone is more estimates than one statement writes.
+		const [firstCount, secondCount] = [1200, CHUNK + 300];
+		const practices = ['605', '340', '554', '604', '656', '590'] as const;
+		const many = (from: number, count: number, ops: number) =>
+			Array.from({ length: count }, (_, i) =>
+				toRecord(`C${from + i}`, {
+					practice_code: practices[(from + i) % practices.length],
+					county_fips: COUNTIES[(from + i) % COUNTIES.length],
+					installed_on: `${2016 + ((from + i) % 11)}-0${1 + ((from + i) % 9)}-15`,
+					acres: 5 + (((from + i) * 7) % 300),
+					field_id: (from + i) % 3 === 0 ? `F${Math.floor((from + i) / 3) % 500}` : null,
+					operation_id: `op-${(from + i) % ops}`,
+					huc12: (from + i) % 4 === 0 ? null : '070801050101',
+					cost: ((from + i) % 50) * 10.25
+				})
+			);
+		// Some records first, then many more (new operations and old ones, fields shared with the first), then moves.
+		const ids = await insertRecords(db, districtId, many(0, firstCount, 300));
+		await insertRecords(db, districtId, many(firstCount, secondCount, 350));
+		await updateRecords(
+			db,
+			ids
+				.slice(0, 40)
+				.map((id, i) => ({ id, set: { operation_id: `op-moved-${i % 7}`, county_fips: COUNTIES[(i + 1) % COUNTIES.length] } }))
+		);
+		const incremental = await snapshot(districtId);
+		expect(incremental.estimates.length).toBe(firstCount + secondCount);
+		await rebuildDistricts(db, method, [districtId]);
+		expect(incremental).toEqual(await snapshot(districtId));
+	}, 120_000);
 
 	it('a stored summary that disagrees with the stored estimates is recomputed, not patched, on the next change', async () => {
 		const districtId = await createDistrict(db, 'RTF', 'Rollup fallback district', 'Rollup Test Region', COUNTIES);

@@ -250,19 +250,6 @@ export function aggregateCells(facts: Iterable<CellFact>, only?: ReadonlySet<str
 export const cellId = (c: Pick<CellRow, 'district_id' | 'fy_basis' | 'basis' | 'fy' | 'geo_level' | 'geo' | 'practice_code'>) =>
 	`${c.district_id}|${c.fy_basis}|${c.basis}|${c.fy}|${c.geo_level}|${c.geo}|${c.practice_code}`;
 
-/** Whether a fact counts in a cell. */
-export function countsIn(
-	f: CellFact,
-	c: Pick<CellRow, 'district_id' | 'fy_basis' | 'basis' | 'fy' | 'geo_level' | 'geo' | 'practice_code'>
-): boolean {
-	if (f.district_id !== c.district_id) return false;
-	if (c.practice_code !== '*' && c.practice_code !== f.practice_code) return false;
-	if (c.geo_level === 'county' ? f.county_fips !== c.geo : c.geo_level === 'huc8' ? (f.huc8 ?? '') !== c.geo : false) return false;
-	const span = f[c.fy_basis];
-	if (c.basis === 'installed') return span.installed === c.fy;
-	return span.first !== null && span.last !== null && span.first <= c.fy && c.fy <= span.last;
-}
-
 /** Packs a cell's [before, after] record counts of one operation in one number: before × OPS_SIDE + after
  * (each below 2^26, so sums stay exact). */
 const OPS_SIDE = 2 ** 26;
@@ -330,8 +317,8 @@ const SLOTS = 1 + AMOUNTS.length;
 /**
  * One cell over every FY of the change (same district, FY basis, counting basis, level, place and practice),
  * as differences between consecutive FYs (a fact counting in FYs from..to adds at `from` and takes away at
- * `to + 1`, whatever its length): how many changed facts count, their practices and amounts, and per
- * operation the packed [before, after] counts. `finish` of cellDeltas adds them up FY by FY.
+ * `to + 1`, whatever its length): how many changed facts count, their practices and amounts; and, per FY,
+ * the operations that enter or leave it as far as the change goes. `finish` of cellDeltas adds them up.
  */
 interface Run {
 	key: Omit<SummaryKey, 'fy'>;
@@ -345,17 +332,21 @@ interface Run {
 	end: number;
 	/** SLOTS numbers per FY (differences). */
 	sums: Float64Array;
-	/** Operation number → its row in `opCounts`. */
-	opRows: Map<number, number>;
-	/** Per operation row, packed counts per FY (differences); grown as operations come. */
-	opCounts: Float64Array;
-}
-
-/** A cell delta before `finish`: the row, and the operations that enter or leave it as far as the change goes. */
-interface Pending {
-	row: CellRow;
-	/** [operation number, packed counts] pairs, flat. */
-	flips: number[];
+	/** A finest run's coarser runs (county × practice: county, practice, district; HUC-8 × practice: HUC-8). */
+	parents: Run[];
+	/** While one operation's facts are counted: that operation, and its counts' row in the scratch table. */
+	op: number;
+	opRow: number;
+	/** The FY indexes that operation's counts span: from `opFirst` up to, not including, `opEnd`. */
+	opFirst: number;
+	opEnd: number;
+	/** Position in the list of runs. */
+	index: number;
+	/** Per FY index, the row read off for it (-1: none). */
+	cellAt: Int32Array;
+	/** While `finish` looks at one operation's other records: that operation, and its coverage's row. */
+	coverOp: number;
+	coverRow: number;
 }
 
 /**
@@ -366,10 +357,14 @@ interface Pending {
  * the operation counts there, which is why `operations` lists the operations to look up and `finish` takes
  * the facts of their unchanged records. Cells whose delta is all zeros are left out.
  *
- * A fact adds to its two finest cells (county × practice and HUC-8 × practice) over all its FYs at once:
- * each cell is kept as a run of FYs holding differences between consecutive FYs, so a fact costs the same
- * whatever the length of its span; the coarser levels are the runs merged, and the rows are read off the
- * runs at the end.
+ * Amounts: a fact adds to its two finest cells (county × practice and HUC-8 × practice) over all its FYs at
+ * once — each cell is kept as a run of FYs holding differences between consecutive FYs, so a fact costs the
+ * same whatever the length of its span — and the coarser levels are the runs merged. Operations: the facts
+ * are taken one operation at a time, their [before, after] counts kept as differences in a scratch row per
+ * cell (all six levels), and each row is read off once that operation is done; only the FYs where the
+ * operation enters or leaves the cell are kept. The rows are read off the runs at the end. `finish` takes
+ * the other records one operation at a time too, marks where they count in the cells that operation enters
+ * or leaves (the same way), and moves each such cell's distinct operations unless one of them counts there.
  */
 export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>): PendingDeltas {
 	const sides: [CellFact[], CellFact[]] = [[...before], [...after]];
@@ -383,67 +378,121 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 				lo = Math.min(lo, s.installed, s.first ?? Infinity);
 				hi = Math.max(hi, s.installed, s.last ?? -Infinity);
 			}
-	const years = hi - lo + 1;
-	/** Differences per FY, with room for the one after the last. */
-	const slots = years + 1;
+	/** Differences per FY, with room for the one after the last (none without facts). */
+	const slots = lo <= hi ? hi - lo + 2 : 0;
 	const places = new Numbering();
 	const practices = new Numbering();
 	const operations = new Numbering();
 	const operationOf: OperationQuestion[] = [];
-	// (district, FY basis, counting basis) → runs by number: county × practice and HUC-8 × practice.
-	const combos = new Map<number, { key: Omit<SummaryKey, 'fy'>; county: Map<number, Run>; huc8: Map<number, Run> }>();
-	const newRun = (key: Omit<SummaryKey, 'fy'>, geo_level: GeoLevel, geo: string, practice_code: string): Run => ({
-		key,
-		geo_level,
-		geo,
-		practice_code,
-		touched: new Int32Array(slots),
-		first: slots,
-		end: 0,
-		sums: new Float64Array(slots * SLOTS),
-		opRows: new Map(),
-		opCounts: new Float64Array(slots * 8)
-	});
-	/** Where an operation's counts start in a run's opCounts (a new row of zeros the first time). */
-	const opAt = (run: Run, op: number): number => {
-		let row = run.opRows.get(op);
-		if (row === undefined) {
-			row = run.opRows.size;
-			run.opRows.set(op, row);
-			if ((row + 1) * slots > run.opCounts.length) {
-				const grown = new Float64Array(run.opCounts.length * 2);
-				grown.set(run.opCounts);
-				run.opCounts = grown;
-			}
-		}
-		return row * slots;
+	// (district, FY basis, counting basis) → runs by number: county × practice and HUC-8 × practice, and the
+	// coarser ones: county, HUC-8, practice (district level) and all (district level).
+	type Combo = {
+		key: Omit<SummaryKey, 'fy'>;
+		county: Map<number, Run>;
+		huc8: Map<number, Run>;
+		countyAll: Map<number, Run>;
+		hucAll: Map<number, Run>;
+		districtPractice: Map<number, Run>;
+		districtAll: Map<number, Run>;
+	};
+	const combos = new Map<number, Combo>();
+	const runs: Run[] = [];
+	const newRun = (key: Omit<SummaryKey, 'fy'>, geo_level: GeoLevel, geo: string, practice_code: string): Run => {
+		const run: Run = {
+			key,
+			geo_level,
+			geo,
+			practice_code,
+			touched: new Int32Array(slots),
+			first: slots,
+			end: 0,
+			sums: new Float64Array(slots * SLOTS),
+			parents: [],
+			op: -1,
+			opRow: 0,
+			opFirst: 0,
+			opEnd: 0,
+			index: runs.length,
+			cellAt: new Int32Array(slots).fill(-1),
+			coverOp: -1,
+			coverRow: 0
+		};
+		runs.push(run);
+		return run;
 	};
 	const runOf = (map: Map<number, Run>, id: number, key: Omit<SummaryKey, 'fy'>, level: GeoLevel, geo: string, practice: string) => {
 		let r = map.get(id);
 		if (!r) map.set(id, (r = newRun(key, level, geo, practice)));
 		return r;
 	};
+
+	// Every fact, numbered by operation (so each operation's facts can be taken together).
+	const all: CellFact[] = [];
+	const opOfFact: number[] = [];
+	for (const facts of sides)
+		for (const f of facts) {
+			const op = operations.of(`${f.district_id}|${f.operation_key}`);
+			if (op === operationOf.length) operationOf.push({ district_id: f.district_id, operation_key: f.operation_key });
+			all.push(f);
+			opOfFact.push(op);
+		}
+	const beforeCount = sides[0].length;
+	// Counting sort of the facts by operation.
+	const opStart = new Int32Array(operationOf.length + 1);
+	for (const op of opOfFact) opStart[op + 1]++;
+	for (let i = 0; i < operationOf.length; i++) opStart[i + 1] += opStart[i];
+	const byOp = new Int32Array(all.length);
+	const fill = opStart.slice(0, operationOf.length);
+	for (let i = 0; i < all.length; i++) byOp[fill[opOfFact[i]]++] = i;
+
+	// Scratch rows of one operation's counts before and after, per cell it touches (differences per FY).
+	let scratch = [new Int32Array(slots * 32), new Int32Array(slots * 32)];
+	let scratchRows = 0;
+	const opRuns: Run[] = [];
+	const countOp = (run: Run, op: number, side: number, start: number, end: number) => {
+		if (run.op !== op) {
+			run.op = op;
+			run.opRow = scratchRows++;
+			run.opFirst = start;
+			run.opEnd = end + 1;
+			if (scratchRows * slots > scratch[0].length) {
+				scratch = scratch.map((s) => {
+					const grown = new Int32Array(s.length * 2);
+					grown.set(s);
+					return grown;
+				});
+			}
+			opRuns.push(run);
+		} else {
+			if (start < run.opFirst) run.opFirst = start;
+			if (end + 1 > run.opEnd) run.opEnd = end + 1;
+		}
+		const counts = scratch[side];
+		const at = run.opRow * slots;
+		counts[at + start]++;
+		counts[at + end]--;
+	};
 	const amounts = new Float64Array(SLOTS);
-	const addSpan = (run: Run, op: number, one: number, from: number, to: number) => {
-		const at = opAt(run, op);
-		const start = from - lo;
-		const end = to - lo + 1;
+	const addSpan = (run: Run, start: number, end: number) => {
 		if (start < run.first) run.first = start;
 		if (end + 1 > run.end) run.end = end + 1;
 		run.touched[start]++;
 		run.touched[end]--;
-		run.opCounts[at + start] += one;
-		run.opCounts[at + end] -= one;
 		const sums = run.sums;
 		for (let k = 0; k < SLOTS; k++) {
 			sums[start * SLOTS + k] += amounts[k];
 			sums[end * SLOTS + k] -= amounts[k];
 		}
 	};
-	for (let side = 0; side < 2; side++) {
-		const sign = side === 0 ? -1 : 1;
-		const one = side === 0 ? OPS_SIDE : 1;
-		for (const f of sides[side]) {
+	const asked = new Set<number>();
+	/** Per operation: [run index, FY index, packed counts] of each cell it enters or leaves, flat. */
+	const flipsOf = new Map<number, number[]>();
+	for (let op = 0; op < operationOf.length; op++) {
+		for (let n = opStart[op]; n < opStart[op + 1]; n++) {
+			const i = byOp[n];
+			const f = all[i];
+			const side = i < beforeCount ? 0 : 1;
+			const sign = side === 0 ? -1 : 1;
 			// In AMOUNTS order, written out (a keyed read per amount would cost more than the rest of the loop).
 			amounts[0] = sign;
 			amounts[1] = sign * f.acres;
@@ -457,73 +506,96 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 			amounts[9] = sign * f.p_high;
 			const huc = f.huc8 ?? '';
 			const practice = practices.of(f.practice_code);
-			const countyCell = places.of(f.county_fips) * PRACTICES + practice;
-			const hucCell = places.of(huc) * PRACTICES + practice;
 			if (practice >= PRACTICES) throw new Error('too many practice codes in one change');
-			const op = operations.of(`${f.district_id}|${f.operation_key}`);
-			if (op === operationOf.length) operationOf.push({ district_id: f.district_id, operation_key: f.operation_key });
+			const countyPlace = places.of(f.county_fips);
+			const hucPlace = places.of(huc);
 			for (let b = 0; b < 2; b++) {
 				const span = b === 0 ? f.state : f.federal;
 				for (let c = 0; c < 2; c++) {
 					if (c === 1 && (span.first === null || span.last === null)) continue;
-					const from = c === 0 ? span.installed : (span.first as number);
-					const to = c === 0 ? span.installed : (span.last as number);
+					const start = (c === 0 ? span.installed : (span.first as number)) - lo;
+					const end = (c === 0 ? span.installed : (span.last as number)) - lo + 1;
 					const comboId = (f.district_id * 2 + b) * 2 + c;
 					let combo = combos.get(comboId);
 					if (!combo) {
 						const key = { district_id: f.district_id, fy_basis: FY_BASES[b], basis: BASES[c] };
-						combos.set(comboId, (combo = { key, county: new Map(), huc8: new Map() }));
+						combo = {
+							key,
+							county: new Map(),
+							huc8: new Map(),
+							countyAll: new Map(),
+							hucAll: new Map(),
+							districtPractice: new Map(),
+							districtAll: new Map()
+						};
+						combos.set(comboId, combo);
 					}
-					addSpan(runOf(combo.county, countyCell, combo.key, 'county', f.county_fips, f.practice_code), op, one, from, to);
-					addSpan(runOf(combo.huc8, hucCell, combo.key, 'huc8', huc, f.practice_code), op, one, from, to);
+					let county = combo.county.get(countyPlace * PRACTICES + practice);
+					if (!county) {
+						county = runOf(combo.county, countyPlace * PRACTICES + practice, combo.key, 'county', f.county_fips, f.practice_code);
+						county.parents.push(
+							runOf(combo.countyAll, countyPlace, combo.key, 'county', f.county_fips, '*'),
+							runOf(combo.districtPractice, practice, combo.key, 'district', '', f.practice_code),
+							runOf(combo.districtAll, 0, combo.key, 'district', '', '*')
+						);
+					}
+					let hucRun = combo.huc8.get(hucPlace * PRACTICES + practice);
+					if (!hucRun) {
+						hucRun = runOf(combo.huc8, hucPlace * PRACTICES + practice, combo.key, 'huc8', huc, f.practice_code);
+						hucRun.parents.push(runOf(combo.hucAll, hucPlace, combo.key, 'huc8', huc, '*'));
+					}
+					addSpan(county, start, end);
+					addSpan(hucRun, start, end);
+					countOp(county, op, side, start, end);
+					countOp(hucRun, op, side, start, end);
+					for (const p of county.parents) countOp(p, op, side, start, end);
+					countOp(hucRun.parents[0], op, side, start, end);
 				}
 			}
 		}
+		// This operation is done: read each of its cells' counts FY by FY and keep where it enters or leaves.
+		const [was, is] = scratch;
+		for (const run of opRuns) {
+			const at = run.opRow * slots;
+			let b = 0;
+			let a = 0;
+			for (let i = at + run.opFirst; i < at + run.opEnd; i++) {
+				b += was[i];
+				a += is[i];
+				was[i] = 0;
+				is[i] = 0;
+				if ((b === 0) !== (a === 0)) {
+					let flips = flipsOf.get(op);
+					if (!flips) {
+						flipsOf.set(op, (flips = []));
+						asked.add(op);
+					}
+					flips.push(run.index, i - at, b * OPS_SIDE + a);
+				}
+			}
+			run.op = -1;
+		}
+		opRuns.length = 0;
+		scratchRows = 0;
 	}
-	// Coarser runs: each the sum of its finer runs.
-	const merge = (into: Run, from: Run) => {
-		const { first, end } = from;
-		if (first < into.first) into.first = first;
-		if (end > into.end) into.end = end;
-		for (let i = first; i < end; i++) into.touched[i] += from.touched[i];
-		for (let i = first * SLOTS; i < end * SLOTS; i++) into.sums[i] += from.sums[i];
-		for (const [op, row] of from.opRows) {
-			const at = opAt(into, op);
-			const counts = into.opCounts;
-			for (let i = first; i < end; i++) counts[at + i] += from.opCounts[row * slots + i];
+	// Coarser runs' amounts: each the sum of its finer runs'.
+	for (const run of runs) {
+		const { first, end } = run;
+		for (const into of run.parents) {
+			if (first < into.first) into.first = first;
+			if (end > into.end) into.end = end;
+			for (let i = first; i < end; i++) into.touched[i] += run.touched[i];
+			for (let i = first * SLOTS; i < end * SLOTS; i++) into.sums[i] += run.sums[i];
 		}
-	};
-	const runs: Run[] = [];
-	for (const { key, county, huc8 } of combos.values()) {
-		const countyAll = new Map<number, Run>();
-		const hucAll = new Map<number, Run>();
-		const districtPractice = new Map<number, Run>();
-		const districtAll = new Map<number, Run>();
-		for (const [id, r] of county) {
-			runs.push(r);
-			merge(runOf(countyAll, Math.floor(id / PRACTICES), key, 'county', r.geo, '*'), r);
-			merge(runOf(districtPractice, id % PRACTICES, key, 'district', '', r.practice_code), r);
-			merge(runOf(districtAll, 0, key, 'district', '', '*'), r);
-		}
-		for (const [id, r] of huc8) {
-			runs.push(r);
-			merge(runOf(hucAll, Math.floor(id / PRACTICES), key, 'huc8', r.geo, '*'), r);
-		}
-		for (const m of [countyAll, districtPractice, districtAll, hucAll]) for (const r of m.values()) runs.push(r);
 	}
-	// The rows (FY by FY, adding up the differences), with the operations that enter or leave each: those
-	// whose changed records count on one side only.
-	const cells: Pending[] = [];
-	const asked = new Set<number>();
+	// The rows (FY by FY, adding up the differences).
+	const cells: CellRow[] = [];
 	for (const run of runs) {
 		let touched = 0;
 		const sums = new Float64Array(SLOTS);
-		const ops = [...run.opRows.keys()];
-		const counts = new Float64Array(ops.length);
 		for (let i = run.first; i < run.end; i++) {
 			touched += run.touched[i];
 			for (let k = 0; k < SLOTS; k++) sums[k] += run.sums[i * SLOTS + k];
-			for (let j = 0; j < ops.length; j++) counts[j] += run.opCounts[j * slots + i];
 			if (touched === 0) continue;
 			const row: CellRow = {
 				fy_basis: run.key.fy_basis,
@@ -545,43 +617,93 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 				p_low: sums[8],
 				p_high: sums[9]
 			};
-			const flips: number[] = [];
-			for (let j = 0; j < ops.length; j++) {
-				const n = counts[j];
-				if (n !== 0 && n < OPS_SIDE !== (n % OPS_SIDE === 0)) {
-					flips.push(ops[j], n);
-					asked.add(ops[j]);
-				}
-			}
-			cells.push({ row, flips });
+			run.cellAt[i] = cells.length;
+			cells.push(row);
 		}
 	}
 	return {
 		operations: [...asked].map((op) => operationOf[op]),
 		finish(others) {
-			// Each operation's other records, all of them and by practice (a practice's cells need look at no other).
-			const byOperation = new Map<number, { all: CellFact[]; byPractice: Map<string, CellFact[]> }>();
+			// The asked operations' other records, by operation.
+			const othersOf = new Map<number, CellFact[]>();
 			for (const f of others) {
 				const op = operations.ids.get(`${f.district_id}|${f.operation_key}`);
 				if (op === undefined || !asked.has(op)) continue;
-				let o = byOperation.get(op);
-				if (!o) byOperation.set(op, (o = { all: [], byPractice: new Map() }));
-				o.all.push(f);
-				const list = o.byPractice.get(f.practice_code);
+				const list = othersOf.get(op);
 				if (list) list.push(f);
-				else o.byPractice.set(f.practice_code, [f]);
+				else othersOf.set(op, [f]);
 			}
-			const out: CellRow[] = [];
-			for (const { row, flips } of cells) {
-				for (let j = 0; j < flips.length; j += 2) {
-					const o = byOperation.get(flips[j]);
-					const list = o && (row.practice_code === '*' ? o.all : o.byPractice.get(row.practice_code));
-					if (list && list.some((f) => countsIn(f, row))) continue;
-					row.operations += flips[j + 1] % OPS_SIDE > 0 ? 1 : -1;
+			// One operation at a time: where its other records count (in the cells it enters or leaves, as
+			// differences per FY in a scratch row per cell, then added up), then each flip that no other record
+			// covers moves the cell's distinct operations.
+			let cover = new Int32Array(slots * 32);
+			const covered: Run[] = [];
+			const mark = (run: Run | undefined, op: number, from: number, to: number) => {
+				if (!run || run.coverOp !== op) return;
+				const at = run.coverRow * slots;
+				cover[at + from]++;
+				cover[at + to + 1]--;
+			};
+			for (const [op, flips] of flipsOf) {
+				const mine = othersOf.get(op);
+				if (mine) {
+					for (let j = 0; j < flips.length; j += 3) {
+						const run = runs[flips[j]];
+						if (run.coverOp === op) continue;
+						run.coverOp = op;
+						run.coverRow = covered.length;
+						covered.push(run);
+						if (covered.length * slots > cover.length) {
+							const grown = new Int32Array(cover.length * 2);
+							grown.set(cover);
+							cover = grown;
+						}
+					}
+					for (const g of mine) {
+						const practice = practices.ids.get(g.practice_code);
+						const county = places.ids.get(g.county_fips);
+						const huc = places.ids.get(g.huc8 ?? '');
+						for (let b = 0; b < 2; b++) {
+							const span = b === 0 ? g.state : g.federal;
+							for (let c = 0; c < 2; c++) {
+								if (c === 1 && (span.first === null || span.last === null)) continue;
+								const combo = combos.get((g.district_id * 2 + b) * 2 + c);
+								if (!combo) continue;
+								// The FYs it counts in, within those of the change.
+								const from = Math.max(c === 0 ? span.installed : (span.first as number), lo) - lo;
+								const to = Math.min(c === 0 ? span.installed : (span.last as number), hi) - lo;
+								if (from > to) continue;
+								mark(combo.districtAll.get(0), op, from, to);
+								if (practice !== undefined) mark(combo.districtPractice.get(practice), op, from, to);
+								if (county !== undefined) {
+									mark(combo.countyAll.get(county), op, from, to);
+									if (practice !== undefined) mark(combo.county.get(county * PRACTICES + practice), op, from, to);
+								}
+								if (huc !== undefined) {
+									mark(combo.hucAll.get(huc), op, from, to);
+									if (practice !== undefined) mark(combo.huc8.get(huc * PRACTICES + practice), op, from, to);
+								}
+							}
+						}
+					}
+					for (const run of covered) {
+						const at = run.coverRow * slots;
+						for (let i = at + 1; i < at + slots; i++) cover[i] += cover[i - 1];
+					}
 				}
-				if (row.practices !== 0 || row.operations !== 0 || AMOUNTS.some((k) => row[k] !== 0)) out.push(row);
+				for (let j = 0; j < flips.length; j += 3) {
+					const run = runs[flips[j]];
+					const i = flips[j + 1];
+					if (mine && cover[run.coverRow * slots + i] > 0) continue;
+					cells[run.cellAt[i]].operations += flips[j + 2] % OPS_SIDE > 0 ? 1 : -1;
+				}
+				for (const run of covered) {
+					cover.fill(0, run.coverRow * slots, (run.coverRow + 1) * slots);
+					run.coverOp = -1;
+				}
+				covered.length = 0;
 			}
-			return out;
+			return cells.filter((row) => row.practices !== 0 || row.operations !== 0 || AMOUNTS.some((k) => row[k] !== 0));
 		}
 	};
 }

@@ -111,8 +111,10 @@ type MeasureRow = {
 	usd_per_lb_n: string | null;
 };
 
-function measures(r: MeasureRow) {
+/** A totals row or the start of a cell: its FY and measures as numbers, in one object of one shape. */
+function measures(r: MeasureRow & { fy: unknown }) {
 	return {
+		fy: Number(r.fy),
 		practices: Number(r.practices),
 		operations: r.operations === null ? null : Number(r.operations),
 		credited_acres: Number(r.credited_acres),
@@ -164,14 +166,14 @@ function where(src: CellSource, geoLevel: string, byPractice: boolean): RawBuild
 }
 
 /** The SQL a grouping reads (exported so the benchmark can time the bare summary read). */
-export function groupingSql(g: Grouping, src: CellSource): RawBuilder<MeasureRow & Record<string, unknown>> {
+export function groupingSql(g: Grouping, src: CellSource): RawBuilder<MeasureRow & { fy: number } & Record<string, unknown>> {
 	const { geoLevel, byPractice } = sourceLevel(g, src);
 	const keys: RawBuilder<unknown>[] = [sql`fy`];
 	if (g.dims.includes('district')) keys.push(sql`district_id`);
 	if (g.dims.includes('county') || g.dims.includes('huc8')) keys.push(sql`geo`);
 	if (g.dims.includes('practice')) keys.push(sql`practice_code`);
 	const keyList = sql.join(keys);
-	return sql<MeasureRow & Record<string, unknown>>`
+	return sql<MeasureRow & { fy: number } & Record<string, unknown>>`
 		select ${keyList}, ${MEASURES} from rollup_cells where ${where(src, geoLevel, byPractice)}
 		group by ${keyList} order by ${keyList}`;
 }
@@ -331,12 +333,12 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		if (!read || read[0].rows.length === 0 || (!q.method && read[0].rows[0].method_version !== version))
 			read = await readCells(db, src, q.groupings);
 		const [totalRows, ...perGrouping] = read;
-		const totals = totalRows.rows.map((t) => ({ fy: Number(t.fy), ...measures(t) }));
+		const totals = totalRows.rows.map(measures);
 		for (const [gi, g] of q.groupings.entries()) {
 			const rows = perGrouping[gi].rows;
 			const { geoLevel } = sourceLevel(g, src);
 			const cells: RollupCell[] = rows.map((r) => {
-				const cell: RollupCell = { fy: Number(r.fy), ...measures(r) };
+				const cell: RollupCell = measures(r);
 				if (g.dims.includes('district')) {
 					const d = names.districts.get(Number(r.district_id));
 					cell.district_id = Number(r.district_id);

@@ -25,7 +25,6 @@ import {
 	zeroAmounts,
 	cellDeltas,
 	operationsMoved,
-	cellId,
 	summaryKeyId,
 	type CellFact,
 	type CellRow,
@@ -318,24 +317,28 @@ const STORED_AMOUNTS = [
 /** 1/per as an exact numeric literal (10,000 → 0.0001). */
 const unitOf = (per: number) => sql.raw((1 / per).toFixed(Math.log10(per)));
 
-/** Writes cells (integer amounts turned back into dollars, acres and pounds). */
+/** Cells as rows of rollup_cells (integer amounts turned back into dollars, acres and pounds). */
+function cellValues(methodVersion: string, part: readonly CellRow[]) {
+	const col = <T>(f: (c: CellRow) => T): T[] => part.map(f);
+	return sql`
+		select ${methodVersion}, u.fy_basis, u.basis, u.geo_level, u.fy, u.district_id, u.geo, u.practice_code, u.practices, u.operations,
+			${sql.join(STORED_AMOUNTS.map(([, amount, per]) => sql`u.${sql.ref(amount)} * ${unitOf(per)}`))}
+		from unnest(${col((c) => c.fy_basis)}::text[], ${col((c) => c.basis)}::text[], ${col((c) => c.geo_level)}::text[],
+			${col((c) => c.fy)}::int[], ${col((c) => c.district_id)}::int[], ${col((c) => c.geo)}::text[], ${col((c) => c.practice_code)}::text[],
+			${col((c) => c.practices)}::int[], ${col((c) => c.operations)}::int[], ${col((c) => c.acres)}::int8[], ${col((c) => c.cost)}::int8[],
+			${col((c) => c.cost_share)}::int8[], ${col((c) => c.n_mean)}::int8[], ${col((c) => c.n_low)}::int8[], ${col((c) => c.n_high)}::int8[],
+			${col((c) => c.p_mean)}::int8[], ${col((c) => c.p_low)}::int8[], ${col((c) => c.p_high)}::int8[])
+			as u(fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations, acres, cost, cost_share,
+				n_mean, n_low, n_high, p_mean, p_low, p_high)`;
+}
+
+const CELL_COLUMNS = sql`method_version, fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations,
+	credited_acres, cost_usd, cost_share_usd, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high`;
+
+/** Writes cells. */
 async function insertCells(db: Db, methodVersion: string, cells: readonly CellRow[]): Promise<void> {
-	for (let i = 0; i < cells.length; i += CHUNK) {
-		const part = cells.slice(i, i + CHUNK);
-		const col = <T>(f: (c: CellRow) => T): T[] => part.map(f);
-		await sql`
-			insert into rollup_cells (method_version, fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations,
-				credited_acres, cost_usd, cost_share_usd, n_lb_mean, n_lb_low, n_lb_high, p_lb_mean, p_lb_low, p_lb_high)
-			select ${methodVersion}, u.fy_basis, u.basis, u.geo_level, u.fy, u.district_id, u.geo, u.practice_code, u.practices, u.operations,
-				${sql.join(STORED_AMOUNTS.map(([, amount, per]) => sql`u.${sql.ref(amount)} * ${unitOf(per)}`))}
-			from unnest(${col((c) => c.fy_basis)}::text[], ${col((c) => c.basis)}::text[], ${col((c) => c.geo_level)}::text[],
-				${col((c) => c.fy)}::int[], ${col((c) => c.district_id)}::int[], ${col((c) => c.geo)}::text[], ${col((c) => c.practice_code)}::text[],
-				${col((c) => c.practices)}::int[], ${col((c) => c.operations)}::int[], ${col((c) => c.acres)}::int8[], ${col((c) => c.cost)}::int8[],
-				${col((c) => c.cost_share)}::int8[], ${col((c) => c.n_mean)}::int8[], ${col((c) => c.n_low)}::int8[], ${col((c) => c.n_high)}::int8[],
-				${col((c) => c.p_mean)}::int8[], ${col((c) => c.p_low)}::int8[], ${col((c) => c.p_high)}::int8[])
-				as u(fy_basis, basis, geo_level, fy, district_id, geo, practice_code, practices, operations, acres, cost, cost_share,
-					n_mean, n_low, n_high, p_mean, p_low, p_high)`.execute(db);
-	}
+	for (let i = 0; i < cells.length; i += CHUNK)
+		await sql`insert into rollup_cells (${CELL_COLUMNS}) ${cellValues(methodVersion, cells.slice(i, i + CHUNK))}`.execute(db);
 }
 
 /** Recomputes the cells of these keys from the stored facts of their districts (delete, then insert). */
@@ -352,63 +355,70 @@ export async function recomputeCells(db: Db, methodVersion: string, keys: readon
 	await insertCells(db, methodVersion, aggregateCells(facts, new Set(keys.map(summaryKeyId))));
 }
 
-/** A cell's key columns and its delta (integer amounts), as json_to_recordset reads the deltas. */
-const DELTA_COLUMNS = sql`k(fy_basis text, basis text, geo_level text, practice_code text, fy int, district_id int, geo text,
-	practices int, operations int, acres int8, cost int8, cost_share int8, n_mean int8, n_low int8, n_high int8,
-	p_mean int8, p_low int8, p_high int8)`;
+/** The key of rollup_cells (also the order of its primary-key index). */
+const CELL_KEY = ['fy_basis', 'basis', 'geo_level', 'practice_code', 'fy', 'district_id', 'geo'] as const;
+
+/** Orders cells as the primary-key index does (within one method version). */
+function byCellKey(a: CellRow, b: CellRow): number {
+	for (const k of CELL_KEY) {
+		const x = a[k];
+		const y = b[k];
+		if (x !== y) return x < y ? -1 : 1;
+	}
+	return 0;
+}
 
 /**
- * Adds deltas to the stored cells in place: each amount is read back as an exact integer, the delta added
- * and the sum turned back with the same arithmetic as a full build, so the stored values are identical to
- * a rebuild's. Only columns outside the indexes change, so PostgreSQL can update in place (HOT; the table
- * leaves room on its pages for it). Cells that are new are inserted, cells no record counts in any more are
- * deleted. Returns false when a stored cell does not agree with the deltas — a summary not maintained by
- * these writers — and the caller recomputes the summary keys of the deltas (which cover every cell touched).
+ * Adds deltas to the stored cells in place, one upsert per chunk: a cell that exists gets the delta added
+ * (every amount is an exact multiple of its column's unit at that unit's scale, so the numeric sum is exact
+ * and stored just as a full build stores it); a cell that does not exist yet is inserted with the delta. Only
+ * columns outside the indexes change, so PostgreSQL can update in place (HOT; the table leaves room on its
+ * pages for it). Cells no record counts in any more are then deleted. Returns false when a cell does not
+ * agree with the deltas — a summary not maintained by these writers — and the caller recomputes the summary
+ * keys of the deltas (which cover every cell touched, so whatever this wrote is rewritten in the same
+ * transaction).
  */
 async function applyCellDeltas(db: Db, methodVersion: string, deltas: readonly CellRow[]): Promise<boolean> {
-	if (deltas.length === 0) return true;
-	const sums = STORED_AMOUNTS.map(
-		([column, amount, per]) =>
-			sql`${sql.ref(column)} = ((c.${sql.ref(column)} * ${sql.lit(per)})::int8 + k.${sql.ref(amount)}) * ${unitOf(per)}`
-	);
-	const sameCell = sql`c.method_version = ${methodVersion} and c.fy_basis = k.fy_basis and c.basis = k.basis
-		and c.geo_level = k.geo_level and c.practice_code = k.practice_code and c.fy = k.fy and c.district_id = k.district_id and c.geo = k.geo`;
-	type Updated = Pick<
-		CellRow,
-		'fy_basis' | 'basis' | 'geo_level' | 'fy' | 'district_id' | 'geo' | 'practice_code' | 'practices' | 'operations'
-	>;
-	const { rows } = await sql<Updated & { empty: boolean }>`
-		update rollup_cells c set practices = c.practices + k.practices, operations = c.operations + k.operations, ${sql.join(sums)}
-		from json_to_recordset(${JSON.stringify(deltas)}::json) as ${DELTA_COLUMNS}
-		where ${sameCell}
-		returning c.fy_basis, c.basis, c.geo_level, c.fy, c.district_id, c.geo, c.practice_code, c.practices, c.operations, (${sql.join(
-			STORED_AMOUNTS.map(([column]) => sql`c.${sql.ref(column)} = 0`),
-			sql` and `
-		)}) as empty`.execute(db);
-	const updated = new Set<string>();
-	const emptied: CellRow[] = [];
-	const byId = new Map(deltas.map((d) => [cellId(d), d]));
-	for (const r of rows) {
-		if (r.practices < 0 || r.operations < 0 || (r.practices === 0) !== (r.operations === 0)) return false;
-		const id = cellId(r);
-		if (r.practices === 0) {
-			if (!r.empty) return false;
-			emptied.push(byId.get(id)!);
+	// In the index's order, so the upsert walks the index (and the cells' pages) forward.
+	const sorted = [...deltas].sort(byCellKey);
+	// Both sides hold exact multiples of the column's unit at its scale (see STORED_AMOUNTS), so their plain
+	// numeric sum is the exact amount with that same scale: what a full build writes.
+	const sums = STORED_AMOUNTS.map(([column]) => sql`${sql.ref(column)} = c.${sql.ref(column)} + excluded.${sql.ref(column)}`);
+	type Written = Pick<CellRow, (typeof CELL_KEY)[number] | 'practices' | 'operations'> & { empty: boolean };
+	const emptied: Written[] = [];
+	for (let i = 0; i < sorted.length; i += CHUNK) {
+		// Only the cells that need a look come back: a cell with practices and operations is as it should be.
+		const { rows } = await sql<Written>`
+			with written as (
+				insert into rollup_cells as c (${CELL_COLUMNS}) ${cellValues(methodVersion, sorted.slice(i, i + CHUNK))}
+				on conflict (method_version, ${sql.join(CELL_KEY.map((k) => sql.ref(k)))}) do update
+				set practices = c.practices + excluded.practices, operations = c.operations + excluded.operations, ${sql.join(sums)}
+				returning c.fy_basis, c.basis, c.geo_level, c.practice_code, c.fy, c.district_id, c.geo, c.practices, c.operations, (${sql.join(
+					STORED_AMOUNTS.map(([column]) => sql`c.${sql.ref(column)} = 0`),
+					sql` and `
+				)}) as empty
+			)
+			select * from written where practices <= 0 or operations <= 0`.execute(db);
+		for (const r of rows) {
+			if (r.practices < 0 || r.operations < 0 || (r.practices === 0) !== (r.operations === 0)) return false;
+			if (r.practices === 0) {
+				if (!r.empty) return false;
+				emptied.push(r);
+			}
 		}
-		updated.add(id);
 	}
-	const added: CellRow[] = [];
-	for (const [id, d] of byId) {
-		if (updated.has(id)) continue;
-		if (d.practices < 0 || d.operations < 0 || (d.practices === 0) !== (d.operations === 0)) return false;
-		if (d.practices > 0) added.push(d);
-		else if (AMOUNTS.some((k) => d[k] !== 0)) return false;
-	}
-	if (emptied.length > 0)
+	if (emptied.length > 0) {
+		const col = <T>(f: (c: Written) => T): T[] => emptied.map(f);
 		await sql`
-			delete from rollup_cells c using json_to_recordset(${JSON.stringify(emptied)}::json) as ${DELTA_COLUMNS}
-			where ${sameCell}`.execute(db);
-	await insertCells(db, methodVersion, added);
+			delete from rollup_cells c
+			using unnest(${col((c) => c.fy_basis)}::text[], ${col((c) => c.basis)}::text[], ${col((c) => c.geo_level)}::text[],
+				${col((c) => c.practice_code)}::text[], ${col((c) => c.fy)}::int[], ${col((c) => c.district_id)}::int[], ${col((c) => c.geo)}::text[])
+				as k(fy_basis, basis, geo_level, practice_code, fy, district_id, geo)
+			where c.method_version = ${methodVersion} and ${sql.join(
+				CELL_KEY.map((key) => sql`c.${sql.ref(key)} = k.${sql.ref(key)}`),
+				sql` and `
+			)}`.execute(db);
+	}
 	return true;
 }
 
