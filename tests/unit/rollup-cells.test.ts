@@ -99,6 +99,20 @@ const fact = fc
 		p_high: r.amounts[8]
 	}));
 
+/** The amounts of a fact (AMOUNTS without the practice count). */
+const AMOUNT_KEYS = ['acres', 'cost', 'cost_share', 'n_mean', 'n_low', 'n_high', 'p_mean', 'p_low', 'p_high'] as const;
+
+/** Where a fact counts: everything but its amounts. */
+const place = (f: CellFact) => ({
+	district_id: f.district_id,
+	county_fips: f.county_fips,
+	huc8: f.huc8,
+	practice_code: f.practice_code,
+	operation_key: f.operation_key,
+	state: f.state,
+	federal: f.federal
+});
+
 describe('summary cells', () => {
 	it('equal the plain reference for random facts', () => {
 		fc.assert(
@@ -121,13 +135,15 @@ describe('summary cells', () => {
 		);
 	}, 60_000);
 
-	it('cells + the deltas of a change = the cells after it (inserts, updates, removals; distinct operations)', () => {
-		// Records 0..n-1 with facts before; each is kept, changed, removed, or new (no fact before).
+	it('cells + the deltas of a change = the cells after it (inserts, updates, removals, new amounts; distinct operations)', () => {
+		// Records 0..n-1 with facts before; each is kept, changed, removed, new (no fact before), or keeps its
+		// places and FYs with new amounts (passed to cellDeltas as the change of its amounts).
 		const change = fc.oneof(
 			fc.constant({ kind: 'keep' as const }),
 			fc.constant({ kind: 'remove' as const }),
 			fact.map((f) => ({ kind: 'change' as const, f })),
-			fact.map((f) => ({ kind: 'new' as const, f }))
+			fact.map((f) => ({ kind: 'new' as const, f })),
+			fact.map((f) => ({ kind: 'amounts' as const, f }))
 		);
 		fc.assert(
 			fc.property(fc.array(fc.tuple(fact, change), { maxLength: 30 }), (records) => {
@@ -136,11 +152,18 @@ describe('summary cells', () => {
 				const before: CellFact[] = [];
 				const after: CellFact[] = [];
 				const others: CellFact[] = [];
+				const reamounted: CellFact[] = [];
 				for (const [f, c] of records) {
 					if (c.kind !== 'new') old.push(f);
 					if (c.kind === 'keep') {
 						now.push(f);
 						others.push(f);
+					} else if (c.kind === 'amounts') {
+						// Same record, places and FYs; the other fact's amounts.
+						const g = { ...c.f, ...place(f) };
+						now.push(g);
+						others.push(g);
+						reamounted.push({ ...g, ...Object.fromEntries(AMOUNT_KEYS.map((k) => [k, g[k] - f[k]])) });
 					} else if (c.kind === 'remove') before.push(f);
 					else if (c.kind === 'new') {
 						now.push(c.f);
@@ -151,7 +174,7 @@ describe('summary cells', () => {
 						after.push(c.f);
 					}
 				}
-				const pending = cellDeltas(before, after);
+				const pending = cellDeltas(before, after, reamounted);
 				// Only the unchanged records of the operations asked about are needed.
 				const asked = new Set(pending.operations.map((o) => `${o.district_id}|${o.operation_key}`));
 				// operationsMoved names every one of them (the refresh reads their records early by it).

@@ -349,56 +349,51 @@ interface Run {
 	coverRow: number;
 }
 
+/** The runs of one (district, FY basis, counting basis), by number: county × practice and HUC-8 × practice,
+ * and the coarser ones: county, HUC-8, practice (district level) and all (district level). */
+interface Combo {
+	key: Omit<SummaryKey, 'fy'>;
+	county: Map<number, Run>;
+	huc8: Map<number, Run>;
+	countyAll: Map<number, Run>;
+	hucAll: Map<number, Run>;
+	districtPractice: Map<number, Run>;
+	districtAll: Map<number, Run>;
+}
+
 /**
- * What replacing the facts `before` by the facts `after` (the same records, old and new footprints; a new
- * record has no `before`, a removed one no `after`) adds to each cell: practices and amounts exactly, and
- * the change in distinct operations. An operation appears in or leaves a cell only when the changed records
- * of that operation go from none to some counting in it (or back) — and then only if no other record of
- * the operation counts there, which is why `operations` lists the operations to look up and `finish` takes
- * the facts of their unchanged records. Cells whose delta is all zeros are left out.
- *
- * Amounts: a fact adds to its two finest cells (county × practice and HUC-8 × practice) over all its FYs at
- * once — each cell is kept as a run of FYs holding differences between consecutive FYs, so a fact costs the
- * same whatever the length of its span — and the coarser levels are the runs merged. Operations: the facts
- * are taken one operation at a time, their [before, after] counts kept as differences in a scratch row per
- * cell (all six levels), and each row is read off once that operation is done; only the FYs where the
- * operation enters or leaves the cell are kept. The rows are read off the runs at the end. `finish` takes
- * the other records one operation at a time too, marks where they count in the cells that operation enters
- * or leaves (the same way), and moves each such cell's distinct operations unless one of them counts there.
+ * The working state of cellDeltas. Its steps are methods (not closures made on each call) so that the code
+ * the engine optimises for them is kept from one change to the next.
  */
-export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>): PendingDeltas {
-	const sides: [CellFact[], CellFact[]] = [[...before], [...after]];
-	// The FYs any fact counts in.
-	let lo = Infinity;
-	let hi = -Infinity;
-	for (const facts of sides)
-		for (const f of facts)
-			for (const fb of FY_BASES) {
-				const s = f[fb];
-				lo = Math.min(lo, s.installed, s.first ?? Infinity);
-				hi = Math.max(hi, s.installed, s.last ?? -Infinity);
-			}
-	/** Differences per FY, with room for the one after the last (none without facts). */
-	const slots = lo <= hi ? hi - lo + 2 : 0;
-	const places = new Numbering();
-	const practices = new Numbering();
-	const operations = new Numbering();
-	const operationOf: OperationQuestion[] = [];
-	// (district, FY basis, counting basis) → runs by number: county × practice and HUC-8 × practice, and the
-	// coarser ones: county, HUC-8, practice (district level) and all (district level).
-	type Combo = {
-		key: Omit<SummaryKey, 'fy'>;
-		county: Map<number, Run>;
-		huc8: Map<number, Run>;
-		countyAll: Map<number, Run>;
-		hucAll: Map<number, Run>;
-		districtPractice: Map<number, Run>;
-		districtAll: Map<number, Run>;
-	};
-	const combos = new Map<number, Combo>();
-	const runs: Run[] = [];
-	const newRun = (key: Omit<SummaryKey, 'fy'>, geo_level: GeoLevel, geo: string, practice_code: string): Run => {
-		const run: Run = {
+class DeltaRuns {
+	readonly runs: Run[] = [];
+	readonly combos = new Map<number, Combo>();
+	readonly places = new Numbering();
+	readonly practices = new Numbering();
+	/** The amounts a fact adds (SLOTS numbers: practices, then AMOUNTS), set before addSpan. */
+	readonly amounts = new Float64Array(SLOTS);
+	/** Scratch rows of one operation's counts before and after, per cell it touches (differences per FY). */
+	scratch: [Int32Array, Int32Array];
+	scratchRows = 0;
+	/** The runs the current operation touched. */
+	readonly opRuns: Run[] = [];
+	/** Scratch rows of where one operation's other records count (finish), and the runs they belong to. */
+	cover: Int32Array;
+	readonly covered: Run[] = [];
+
+	constructor(
+		readonly lo: number,
+		readonly slots: number
+	) {
+		this.scratch = [new Int32Array(slots * 32), new Int32Array(slots * 32)];
+		this.cover = new Int32Array(slots * 32);
+	}
+
+	runOf(map: Map<number, Run>, id: number, key: Omit<SummaryKey, 'fy'>, geo_level: GeoLevel, geo: string, practice_code: string): Run {
+		let run = map.get(id);
+		if (run) return run;
+		const slots = this.slots;
+		run = {
 			key,
 			geo_level,
 			geo,
@@ -412,19 +407,252 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 			opRow: 0,
 			opFirst: 0,
 			opEnd: 0,
-			index: runs.length,
+			index: this.runs.length,
 			cellAt: new Int32Array(slots).fill(-1),
 			coverOp: -1,
 			coverRow: 0
 		};
-		runs.push(run);
+		this.runs.push(run);
+		map.set(id, run);
 		return run;
-	};
-	const runOf = (map: Map<number, Run>, id: number, key: Omit<SummaryKey, 'fy'>, level: GeoLevel, geo: string, practice: string) => {
-		let r = map.get(id);
-		if (!r) map.set(id, (r = newRun(key, level, geo, practice)));
-		return r;
-	};
+	}
+
+	combo(districtId: number, b: number, c: number): Combo {
+		const id = (districtId * 2 + b) * 2 + c;
+		let combo = this.combos.get(id);
+		if (!combo) {
+			combo = {
+				key: { district_id: districtId, fy_basis: FY_BASES[b], basis: BASES[c] },
+				county: new Map(),
+				huc8: new Map(),
+				countyAll: new Map(),
+				hucAll: new Map(),
+				districtPractice: new Map(),
+				districtAll: new Map()
+			};
+			this.combos.set(id, combo);
+		}
+		return combo;
+	}
+
+	/** A fact's county × practice run (made with its coarser runs when new). */
+	countyRun(combo: Combo, f: CellFact, practice: number, place: number): Run {
+		const id = place * PRACTICES + practice;
+		let run = combo.county.get(id);
+		if (!run) {
+			run = this.runOf(combo.county, id, combo.key, 'county', f.county_fips, f.practice_code);
+			run.parents.push(
+				this.runOf(combo.countyAll, place, combo.key, 'county', f.county_fips, '*'),
+				this.runOf(combo.districtPractice, practice, combo.key, 'district', '', f.practice_code),
+				this.runOf(combo.districtAll, 0, combo.key, 'district', '', '*')
+			);
+		}
+		return run;
+	}
+
+	/** A fact's HUC-8 × practice run (made with its coarser run when new). */
+	hucRun(combo: Combo, f: CellFact, practice: number, place: number): Run {
+		const id = place * PRACTICES + practice;
+		let run = combo.huc8.get(id);
+		if (!run) {
+			const huc = f.huc8 ?? '';
+			run = this.runOf(combo.huc8, id, combo.key, 'huc8', huc, f.practice_code);
+			run.parents.push(this.runOf(combo.hucAll, place, combo.key, 'huc8', huc, '*'));
+		}
+		return run;
+	}
+
+	practiceOf(f: CellFact): number {
+		const practice = this.practices.of(f.practice_code);
+		if (practice >= PRACTICES) throw new Error('too many practice codes in one change');
+		return practice;
+	}
+
+	/** Sets the amounts a fact adds: `sign` × its amounts, and `practices` practices. */
+	setAmounts(f: CellFact, sign: number, practices: number): void {
+		// In AMOUNTS order, written out (a keyed read per amount would cost more than the rest of the loop).
+		const a = this.amounts;
+		a[0] = practices;
+		a[1] = sign * f.acres;
+		a[2] = sign * f.cost;
+		a[3] = sign * f.cost_share;
+		a[4] = sign * f.n_mean;
+		a[5] = sign * f.n_low;
+		a[6] = sign * f.n_high;
+		a[7] = sign * f.p_mean;
+		a[8] = sign * f.p_low;
+		a[9] = sign * f.p_high;
+	}
+
+	/** Adds the current amounts to a run over FY indexes start..end - 1. */
+	addSpan(run: Run, start: number, end: number): void {
+		if (start < run.first) run.first = start;
+		if (end + 1 > run.end) run.end = end + 1;
+		run.touched[start]++;
+		run.touched[end]--;
+		const sums = run.sums;
+		const amounts = this.amounts;
+		for (let k = 0; k < SLOTS; k++) {
+			sums[start * SLOTS + k] += amounts[k];
+			sums[end * SLOTS + k] -= amounts[k];
+		}
+	}
+
+	/** Counts one of operation `op`'s facts (side 0: before, 1: after) in a run over FY indexes start..end - 1. */
+	countOp(run: Run, op: number, side: number, start: number, end: number): void {
+		if (run.op !== op) {
+			run.op = op;
+			run.opRow = this.scratchRows++;
+			run.opFirst = start;
+			run.opEnd = end + 1;
+			if (this.scratchRows * this.slots > this.scratch[0].length) {
+				const grow = (s: Int32Array) => {
+					const grown = new Int32Array(s.length * 2);
+					grown.set(s);
+					return grown;
+				};
+				this.scratch = [grow(this.scratch[0]), grow(this.scratch[1])];
+			}
+			this.opRuns.push(run);
+		} else {
+			if (start < run.opFirst) run.opFirst = start;
+			if (end + 1 > run.opEnd) run.opEnd = end + 1;
+		}
+		const counts = this.scratch[side];
+		const at = run.opRow * this.slots;
+		counts[at + start]++;
+		counts[at + end]--;
+	}
+
+	/** Reads the counts of the operation just counted, FY by FY, keeping [run, FY, packed counts] where it
+	 * enters or leaves a cell; clears the scratch rows. */
+	readOperation(op: number, flips: number[]): void {
+		const [was, is] = this.scratch;
+		const slots = this.slots;
+		for (const run of this.opRuns) {
+			const at = run.opRow * slots;
+			let b = 0;
+			let a = 0;
+			for (let i = at + run.opFirst; i < at + run.opEnd; i++) {
+				b += was[i];
+				a += is[i];
+				was[i] = 0;
+				is[i] = 0;
+				if ((b === 0) !== (a === 0)) flips.push(run.index, i - at, b * OPS_SIDE + a);
+			}
+			run.op = -1;
+		}
+		this.opRuns.length = 0;
+		this.scratchRows = 0;
+	}
+
+	/** Gives a run a coverage row for operation `op` (finish). */
+	coverFor(run: Run, op: number): void {
+		if (run.coverOp === op) return;
+		run.coverOp = op;
+		run.coverRow = this.covered.length;
+		this.covered.push(run);
+		if (this.covered.length * this.slots > this.cover.length) {
+			const grown = new Int32Array(this.cover.length * 2);
+			grown.set(this.cover);
+			this.cover = grown;
+		}
+	}
+
+	/** Marks FY indexes from..to (inclusive) of a run as covered, when it has a coverage row for `op`. */
+	mark(run: Run | undefined, op: number, from: number, to: number): void {
+		if (!run || run.coverOp !== op) return;
+		const at = run.coverRow * this.slots;
+		this.cover[at + from]++;
+		this.cover[at + to + 1]--;
+	}
+
+	/** Marks where one other record of operation `op` counts, in the runs that have a coverage row for it. */
+	markOther(g: CellFact, op: number): void {
+		const practice = this.practices.ids.get(g.practice_code);
+		const county = this.places.ids.get(g.county_fips);
+		const huc = this.places.ids.get(g.huc8 ?? '');
+		const { lo, slots } = this;
+		const hi = lo + slots - 2;
+		for (let b = 0; b < 2; b++) {
+			const span = b === 0 ? g.state : g.federal;
+			for (let c = 0; c < 2; c++) {
+				if (c === 1 && (span.first === null || span.last === null)) continue;
+				const combo = this.combos.get((g.district_id * 2 + b) * 2 + c);
+				if (!combo) continue;
+				// The FYs it counts in, within those of the change.
+				const from = Math.max(c === 0 ? span.installed : (span.first as number), lo) - lo;
+				const to = Math.min(c === 0 ? span.installed : (span.last as number), hi) - lo;
+				if (from > to) continue;
+				this.mark(combo.districtAll.get(0), op, from, to);
+				if (practice !== undefined) this.mark(combo.districtPractice.get(practice), op, from, to);
+				if (county !== undefined) {
+					this.mark(combo.countyAll.get(county), op, from, to);
+					if (practice !== undefined) this.mark(combo.county.get(county * PRACTICES + practice), op, from, to);
+				}
+				if (huc !== undefined) {
+					this.mark(combo.hucAll.get(huc), op, from, to);
+					if (practice !== undefined) this.mark(combo.huc8.get(huc * PRACTICES + practice), op, from, to);
+				}
+			}
+		}
+	}
+
+	/** Adds up the coverage rows (differences to counts). */
+	sumCover(): void {
+		const slots = this.slots;
+		const cover = this.cover;
+		for (const run of this.covered) {
+			const at = run.coverRow * slots;
+			for (let i = at + 1; i < at + slots; i++) cover[i] += cover[i - 1];
+		}
+	}
+
+	clearCover(): void {
+		for (const run of this.covered) {
+			this.cover.fill(0, run.coverRow * this.slots, (run.coverRow + 1) * this.slots);
+			run.coverOp = -1;
+		}
+		this.covered.length = 0;
+	}
+}
+
+/**
+ * What replacing the facts `before` by the facts `after` (the same records, old and new footprints; a new
+ * record has no `before`, a removed one no `after`), and changing the amounts of the records in
+ * `amountChanges` (facts whose places and FYs stay, with new minus old amounts as amounts), adds to each
+ * cell: practices and amounts exactly, and the change in distinct operations. An operation appears in or
+ * leaves a cell only when the changed records of that operation go from none to some counting in it (or
+ * back) — and then only if no other record of the operation counts there, which is why `operations` lists
+ * the operations to look up and `finish` takes the facts of their unchanged records. Cells whose delta is
+ * all zeros are left out.
+ *
+ * Amounts: a fact adds to its two finest cells (county × practice and HUC-8 × practice) over all its FYs at
+ * once — each cell is kept as a run of FYs holding differences between consecutive FYs, so a fact costs the
+ * same whatever the length of its span — and the coarser levels are the runs merged. Operations: the facts
+ * are taken one operation at a time, their [before, after] counts kept as differences in a scratch row per
+ * cell (all six levels), and each row is read off once that operation is done; only the FYs where the
+ * operation enters or leaves the cell are kept. The rows are read off the runs at the end. `finish` takes
+ * the other records one operation at a time too, marks where they count in the cells that operation enters
+ * or leaves (the same way), and moves each such cell's distinct operations unless one of them counts there.
+ */
+export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>, amountChanges: Iterable<CellFact> = []): PendingDeltas {
+	const sides: [CellFact[], CellFact[]] = [[...before], [...after]];
+	const reamounted = [...amountChanges];
+	// The FYs any fact counts in.
+	let lo = Infinity;
+	let hi = -Infinity;
+	for (const facts of [...sides, reamounted])
+		for (const f of facts)
+			for (const fb of FY_BASES) {
+				const s = f[fb];
+				lo = Math.min(lo, s.installed, s.first ?? Infinity);
+				hi = Math.max(hi, s.installed, s.last ?? -Infinity);
+			}
+	// Differences per FY, with room for the one after the last (none without facts).
+	const w = new DeltaRuns(lo, lo <= hi ? hi - lo + 2 : 0);
+	const operations = new Numbering();
+	const operationOf: OperationQuestion[] = [];
 
 	// Every fact, numbered by operation (so each operation's facts can be taken together).
 	const all: CellFact[] = [];
@@ -445,46 +673,26 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 	const fill = opStart.slice(0, operationOf.length);
 	for (let i = 0; i < all.length; i++) byOp[fill[opOfFact[i]]++] = i;
 
-	// Scratch rows of one operation's counts before and after, per cell it touches (differences per FY).
-	let scratch = [new Int32Array(slots * 32), new Int32Array(slots * 32)];
-	let scratchRows = 0;
-	const opRuns: Run[] = [];
-	const countOp = (run: Run, op: number, side: number, start: number, end: number) => {
-		if (run.op !== op) {
-			run.op = op;
-			run.opRow = scratchRows++;
-			run.opFirst = start;
-			run.opEnd = end + 1;
-			if (scratchRows * slots > scratch[0].length) {
-				scratch = scratch.map((s) => {
-					const grown = new Int32Array(s.length * 2);
-					grown.set(s);
-					return grown;
-				});
+	// Records whose places and FYs stay and whose amounts change: their amounts' change only (no practice or
+	// operation enters or leaves any cell).
+	for (const f of reamounted) {
+		w.setAmounts(f, 1, 0);
+		const practice = w.practiceOf(f);
+		const county = w.places.of(f.county_fips);
+		const huc = w.places.of(f.huc8 ?? '');
+		for (let b = 0; b < 2; b++) {
+			const span = b === 0 ? f.state : f.federal;
+			for (let c = 0; c < 2; c++) {
+				if (c === 1 && (span.first === null || span.last === null)) continue;
+				const start = (c === 0 ? span.installed : (span.first as number)) - lo;
+				const end = (c === 0 ? span.installed : (span.last as number)) - lo + 1;
+				const combo = w.combo(f.district_id, b, c);
+				w.addSpan(w.countyRun(combo, f, practice, county), start, end);
+				w.addSpan(w.hucRun(combo, f, practice, huc), start, end);
 			}
-			opRuns.push(run);
-		} else {
-			if (start < run.opFirst) run.opFirst = start;
-			if (end + 1 > run.opEnd) run.opEnd = end + 1;
 		}
-		const counts = scratch[side];
-		const at = run.opRow * slots;
-		counts[at + start]++;
-		counts[at + end]--;
-	};
-	const amounts = new Float64Array(SLOTS);
-	const addSpan = (run: Run, start: number, end: number) => {
-		if (start < run.first) run.first = start;
-		if (end + 1 > run.end) run.end = end + 1;
-		run.touched[start]++;
-		run.touched[end]--;
-		const sums = run.sums;
-		for (let k = 0; k < SLOTS; k++) {
-			sums[start * SLOTS + k] += amounts[k];
-			sums[end * SLOTS + k] -= amounts[k];
-		}
-	};
-	const asked = new Set<number>();
+	}
+	// The other facts, one operation at a time.
 	/** Per operation: [run index, FY index, packed counts] of each cell it enters or leaves, flat. */
 	const flipsOf = new Map<number, number[]>();
 	for (let op = 0; op < operationOf.length; op++) {
@@ -493,93 +701,35 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 			const f = all[i];
 			const side = i < beforeCount ? 0 : 1;
 			const sign = side === 0 ? -1 : 1;
-			// In AMOUNTS order, written out (a keyed read per amount would cost more than the rest of the loop).
-			amounts[0] = sign;
-			amounts[1] = sign * f.acres;
-			amounts[2] = sign * f.cost;
-			amounts[3] = sign * f.cost_share;
-			amounts[4] = sign * f.n_mean;
-			amounts[5] = sign * f.n_low;
-			amounts[6] = sign * f.n_high;
-			amounts[7] = sign * f.p_mean;
-			amounts[8] = sign * f.p_low;
-			amounts[9] = sign * f.p_high;
-			const huc = f.huc8 ?? '';
-			const practice = practices.of(f.practice_code);
-			if (practice >= PRACTICES) throw new Error('too many practice codes in one change');
-			const countyPlace = places.of(f.county_fips);
-			const hucPlace = places.of(huc);
+			w.setAmounts(f, sign, sign);
+			const practice = w.practiceOf(f);
+			const county = w.places.of(f.county_fips);
+			const huc = w.places.of(f.huc8 ?? '');
 			for (let b = 0; b < 2; b++) {
 				const span = b === 0 ? f.state : f.federal;
 				for (let c = 0; c < 2; c++) {
 					if (c === 1 && (span.first === null || span.last === null)) continue;
 					const start = (c === 0 ? span.installed : (span.first as number)) - lo;
 					const end = (c === 0 ? span.installed : (span.last as number)) - lo + 1;
-					const comboId = (f.district_id * 2 + b) * 2 + c;
-					let combo = combos.get(comboId);
-					if (!combo) {
-						const key = { district_id: f.district_id, fy_basis: FY_BASES[b], basis: BASES[c] };
-						combo = {
-							key,
-							county: new Map(),
-							huc8: new Map(),
-							countyAll: new Map(),
-							hucAll: new Map(),
-							districtPractice: new Map(),
-							districtAll: new Map()
-						};
-						combos.set(comboId, combo);
-					}
-					let county = combo.county.get(countyPlace * PRACTICES + practice);
-					if (!county) {
-						county = runOf(combo.county, countyPlace * PRACTICES + practice, combo.key, 'county', f.county_fips, f.practice_code);
-						county.parents.push(
-							runOf(combo.countyAll, countyPlace, combo.key, 'county', f.county_fips, '*'),
-							runOf(combo.districtPractice, practice, combo.key, 'district', '', f.practice_code),
-							runOf(combo.districtAll, 0, combo.key, 'district', '', '*')
-						);
-					}
-					let hucRun = combo.huc8.get(hucPlace * PRACTICES + practice);
-					if (!hucRun) {
-						hucRun = runOf(combo.huc8, hucPlace * PRACTICES + practice, combo.key, 'huc8', huc, f.practice_code);
-						hucRun.parents.push(runOf(combo.hucAll, hucPlace, combo.key, 'huc8', huc, '*'));
-					}
-					addSpan(county, start, end);
-					addSpan(hucRun, start, end);
-					countOp(county, op, side, start, end);
-					countOp(hucRun, op, side, start, end);
-					for (const p of county.parents) countOp(p, op, side, start, end);
-					countOp(hucRun.parents[0], op, side, start, end);
+					const combo = w.combo(f.district_id, b, c);
+					const countyRun = w.countyRun(combo, f, practice, county);
+					const hucRun = w.hucRun(combo, f, practice, huc);
+					w.addSpan(countyRun, start, end);
+					w.addSpan(hucRun, start, end);
+					w.countOp(countyRun, op, side, start, end);
+					w.countOp(hucRun, op, side, start, end);
+					for (const p of countyRun.parents) w.countOp(p, op, side, start, end);
+					w.countOp(hucRun.parents[0], op, side, start, end);
 				}
 			}
 		}
-		// This operation is done: read each of its cells' counts FY by FY and keep where it enters or leaves.
-		const [was, is] = scratch;
-		for (const run of opRuns) {
-			const at = run.opRow * slots;
-			let b = 0;
-			let a = 0;
-			for (let i = at + run.opFirst; i < at + run.opEnd; i++) {
-				b += was[i];
-				a += is[i];
-				was[i] = 0;
-				is[i] = 0;
-				if ((b === 0) !== (a === 0)) {
-					let flips = flipsOf.get(op);
-					if (!flips) {
-						flipsOf.set(op, (flips = []));
-						asked.add(op);
-					}
-					flips.push(run.index, i - at, b * OPS_SIDE + a);
-				}
-			}
-			run.op = -1;
-		}
-		opRuns.length = 0;
-		scratchRows = 0;
+		// This operation is done: keep where it enters or leaves a cell.
+		const flips: number[] = [];
+		w.readOperation(op, flips);
+		if (flips.length > 0) flipsOf.set(op, flips);
 	}
 	// Coarser runs' amounts: each the sum of its finer runs'.
-	for (const run of runs) {
+	for (const run of w.runs) {
 		const { first, end } = run;
 		for (const into of run.parents) {
 			if (first < into.first) into.first = first;
@@ -590,14 +740,15 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 	}
 	// The rows (FY by FY, adding up the differences).
 	const cells: CellRow[] = [];
-	for (const run of runs) {
+	for (const run of w.runs) {
 		let touched = 0;
 		const sums = new Float64Array(SLOTS);
 		for (let i = run.first; i < run.end; i++) {
 			touched += run.touched[i];
 			for (let k = 0; k < SLOTS; k++) sums[k] += run.sums[i * SLOTS + k];
 			if (touched === 0) continue;
-			const row: CellRow = {
+			run.cellAt[i] = cells.length;
+			cells.push({
 				fy_basis: run.key.fy_basis,
 				basis: run.key.basis,
 				geo_level: run.geo_level,
@@ -616,92 +767,38 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 				p_mean: sums[7],
 				p_low: sums[8],
 				p_high: sums[9]
-			};
-			run.cellAt[i] = cells.length;
-			cells.push(row);
+			});
 		}
 	}
 	return {
-		operations: [...asked].map((op) => operationOf[op]),
+		operations: [...flipsOf.keys()].map((op) => operationOf[op]),
 		finish(others) {
 			// The asked operations' other records, by operation.
 			const othersOf = new Map<number, CellFact[]>();
 			for (const f of others) {
 				const op = operations.ids.get(`${f.district_id}|${f.operation_key}`);
-				if (op === undefined || !asked.has(op)) continue;
+				if (op === undefined || !flipsOf.has(op)) continue;
 				const list = othersOf.get(op);
 				if (list) list.push(f);
 				else othersOf.set(op, [f]);
 			}
 			// One operation at a time: where its other records count (in the cells it enters or leaves, as
-			// differences per FY in a scratch row per cell, then added up), then each flip that no other record
+			// differences per FY in a coverage row per cell, then added up), then each flip that no other record
 			// covers moves the cell's distinct operations.
-			let cover = new Int32Array(slots * 32);
-			const covered: Run[] = [];
-			const mark = (run: Run | undefined, op: number, from: number, to: number) => {
-				if (!run || run.coverOp !== op) return;
-				const at = run.coverRow * slots;
-				cover[at + from]++;
-				cover[at + to + 1]--;
-			};
 			for (const [op, flips] of flipsOf) {
 				const mine = othersOf.get(op);
 				if (mine) {
-					for (let j = 0; j < flips.length; j += 3) {
-						const run = runs[flips[j]];
-						if (run.coverOp === op) continue;
-						run.coverOp = op;
-						run.coverRow = covered.length;
-						covered.push(run);
-						if (covered.length * slots > cover.length) {
-							const grown = new Int32Array(cover.length * 2);
-							grown.set(cover);
-							cover = grown;
-						}
-					}
-					for (const g of mine) {
-						const practice = practices.ids.get(g.practice_code);
-						const county = places.ids.get(g.county_fips);
-						const huc = places.ids.get(g.huc8 ?? '');
-						for (let b = 0; b < 2; b++) {
-							const span = b === 0 ? g.state : g.federal;
-							for (let c = 0; c < 2; c++) {
-								if (c === 1 && (span.first === null || span.last === null)) continue;
-								const combo = combos.get((g.district_id * 2 + b) * 2 + c);
-								if (!combo) continue;
-								// The FYs it counts in, within those of the change.
-								const from = Math.max(c === 0 ? span.installed : (span.first as number), lo) - lo;
-								const to = Math.min(c === 0 ? span.installed : (span.last as number), hi) - lo;
-								if (from > to) continue;
-								mark(combo.districtAll.get(0), op, from, to);
-								if (practice !== undefined) mark(combo.districtPractice.get(practice), op, from, to);
-								if (county !== undefined) {
-									mark(combo.countyAll.get(county), op, from, to);
-									if (practice !== undefined) mark(combo.county.get(county * PRACTICES + practice), op, from, to);
-								}
-								if (huc !== undefined) {
-									mark(combo.hucAll.get(huc), op, from, to);
-									if (practice !== undefined) mark(combo.huc8.get(huc * PRACTICES + practice), op, from, to);
-								}
-							}
-						}
-					}
-					for (const run of covered) {
-						const at = run.coverRow * slots;
-						for (let i = at + 1; i < at + slots; i++) cover[i] += cover[i - 1];
-					}
+					for (let j = 0; j < flips.length; j += 3) w.coverFor(w.runs[flips[j]], op);
+					for (const g of mine) w.markOther(g, op);
+					w.sumCover();
 				}
 				for (let j = 0; j < flips.length; j += 3) {
-					const run = runs[flips[j]];
+					const run = w.runs[flips[j]];
 					const i = flips[j + 1];
-					if (mine && cover[run.coverRow * slots + i] > 0) continue;
+					if (mine && w.cover[run.coverRow * w.slots + i] > 0) continue;
 					cells[run.cellAt[i]].operations += flips[j + 2] % OPS_SIDE > 0 ? 1 : -1;
 				}
-				for (const run of covered) {
-					cover.fill(0, run.coverRow * slots, (run.coverRow + 1) * slots);
-					run.coverOp = -1;
-				}
-				covered.length = 0;
+				w.clearCover();
 			}
 			return cells.filter((row) => row.practices !== 0 || row.operations !== 0 || AMOUNTS.some((k) => row[k] !== 0));
 		}

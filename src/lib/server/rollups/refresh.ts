@@ -3,8 +3,9 @@
 // - `refreshRecords(trx, ids)` runs inside every write transaction that changes practice records (through
 //   `afterRecordsChanged`; a batch calls it once for all its chunks): it re-estimates the changed records and
 //   the records stacked on the same fields under the active method, and adds to the stored cells what
-//   changed — each changed record's new contribution minus its old one (cellDeltas in rollup-cells.ts), so
-//   the work follows the records changed, not the size of the cells they count in. Distinct-operation
+//   changed — each changed record's new contribution minus its old one (cellDeltas in rollup-cells.ts; a
+//   record that counts in the same cells as before adds only the change of its amounts), so the work
+//   follows the records changed, not the size of the cells they count in. Distinct-operation
 //   counts move only where an operation's changed records enter or leave a cell; then the operation's
 //   other records (one indexed read per refresh) say whether the operation stays. A stored cell that does
 //   not agree with the deltas (a summary not kept by these writers) makes the refresh recompute the keys
@@ -136,18 +137,22 @@ export async function writeFacts(db: Db, facts: readonly RecordFact[]): Promise<
 
 /** The old and new footprints (scaled, as cells count them) of the records whose footprint a write changed. */
 export interface FootprintChange {
+	/** Old and new footprints of the records whose places or FYs change (new records have no old one). */
 	before: CellFact[];
 	after: CellFact[];
 	/** Ids of those records. */
 	changed: Set<string>;
+	/** The records that keep their places and FYs but change amounts: new footprint, amounts new minus old. */
+	reamounted: CellFact[];
 }
 
 /**
- * Upserts facts and returns, for the records whose footprint or amounts changed, their old footprints (read
- * in the same statement, before the write) and new ones (as stored, after numeric rounding).
+ * Upserts facts and returns what changed: for the records whose places or FYs changed, their old footprints
+ * (read in the same statement, before the write) and new ones (as stored, after numeric rounding); for the
+ * records whose amounts alone changed, the change of their amounts.
  */
 export async function writeFactsReturningChanges(db: Db, facts: readonly RecordFact[]): Promise<FootprintChange> {
-	const out: FootprintChange = { before: [], after: [], changed: new Set() };
+	const out: FootprintChange = { before: [], after: [], changed: new Set(), reamounted: [] };
 	for (let i = 0; i < facts.length; i += CHUNK) {
 		const part = facts.slice(i, i + CHUNK);
 		const { rows } = await sql<CellFactRow & { side: 'old' | 'new' }>`
@@ -163,7 +168,10 @@ export async function writeFactsReturningChanges(db: Db, facts: readonly RecordF
 			if (r.side !== 'new') continue;
 			const now = toCellFact(r);
 			const was = old.get(r.record_id);
-			if (was && sameFootprint(was, now)) continue;
+			if (was && samePlaces(was, now)) {
+				if (AMOUNTS.some((k) => was[k] !== now[k])) out.reamounted.push(amountChange(was, now));
+				continue;
+			}
 			if (was) out.before.push(was);
 			out.after.push(now);
 			out.changed.add(r.record_id);
@@ -229,7 +237,8 @@ const toCellFact = (r: CellFactRow): CellFact => ({
 	p_high: r.p_high
 });
 
-function sameFootprint(a: CellFact, b: CellFact): boolean {
+/** Whether two footprints count in the same cells (same places, practice, operation and FYs). */
+function samePlaces(a: CellFact, b: CellFact): boolean {
 	return (
 		a.district_id === b.district_id &&
 		a.county_fips === b.county_fips &&
@@ -241,9 +250,15 @@ function sameFootprint(a: CellFact, b: CellFact): boolean {
 		a.state.last === b.state.last &&
 		a.federal.installed === b.federal.installed &&
 		a.federal.first === b.federal.first &&
-		a.federal.last === b.federal.last &&
-		AMOUNTS.every((k) => a[k] === b[k])
+		a.federal.last === b.federal.last
 	);
+}
+
+/** The new footprint with its amounts' change (new minus old) as amounts. */
+function amountChange(was: CellFact, now: CellFact): CellFact {
+	const out = { ...now };
+	for (const k of AMOUNTS) out[k] = now[k] - was[k];
+	return out;
 }
 
 /** Facts of these districts under a method, amounts scaled to integers (see rollup-cells.ts). */
@@ -358,16 +373,6 @@ export async function recomputeCells(db: Db, methodVersion: string, keys: readon
 /** The key of rollup_cells (also the order of its primary-key index). */
 const CELL_KEY = ['fy_basis', 'basis', 'geo_level', 'practice_code', 'fy', 'district_id', 'geo'] as const;
 
-/** Orders cells as the primary-key index does (within one method version). */
-function byCellKey(a: CellRow, b: CellRow): number {
-	for (const k of CELL_KEY) {
-		const x = a[k];
-		const y = b[k];
-		if (x !== y) return x < y ? -1 : 1;
-	}
-	return 0;
-}
-
 /**
  * Adds deltas to the stored cells in place, one upsert per chunk: a cell that exists gets the delta added
  * (every amount is an exact multiple of its column's unit at that unit's scale, so the numeric sum is exact
@@ -379,18 +384,16 @@ function byCellKey(a: CellRow, b: CellRow): number {
  * transaction).
  */
 async function applyCellDeltas(db: Db, methodVersion: string, deltas: readonly CellRow[]): Promise<boolean> {
-	// In the index's order, so the upsert walks the index (and the cells' pages) forward.
-	const sorted = [...deltas].sort(byCellKey);
 	// Both sides hold exact multiples of the column's unit at its scale (see STORED_AMOUNTS), so their plain
 	// numeric sum is the exact amount with that same scale: what a full build writes.
 	const sums = STORED_AMOUNTS.map(([column]) => sql`${sql.ref(column)} = c.${sql.ref(column)} + excluded.${sql.ref(column)}`);
 	type Written = Pick<CellRow, (typeof CELL_KEY)[number] | 'practices' | 'operations'> & { empty: boolean };
 	const emptied: Written[] = [];
-	for (let i = 0; i < sorted.length; i += CHUNK) {
+	for (let i = 0; i < deltas.length; i += CHUNK) {
 		// Only the cells that need a look come back: a cell with practices and operations is as it should be.
 		const { rows } = await sql<Written>`
 			with written as (
-				insert into rollup_cells as c (${CELL_COLUMNS}) ${cellValues(methodVersion, sorted.slice(i, i + CHUNK))}
+				insert into rollup_cells as c (${CELL_COLUMNS}) ${cellValues(methodVersion, deltas.slice(i, i + CHUNK))}
 				on conflict (method_version, ${sql.join(CELL_KEY.map((k) => sql.ref(k)))}) do update
 				set practices = c.practices + excluded.practices, operations = c.operations + excluded.operations, ${sql.join(sums)}
 				returning c.fy_basis, c.basis, c.geo_level, c.practice_code, c.fy, c.district_id, c.geo, c.practices, c.operations, (${sql.join(
@@ -522,7 +525,7 @@ async function refreshFacts(db: Db, method: ReductionMethod, ids: readonly strin
 	const moved = operationsMoved(change.before, change.after);
 	const reading = loadOperationFootprints(db, method.version, moved, change.changed);
 	reading.catch(() => {}); // awaited below; this only keeps a failure from counting as unhandled meanwhile
-	const pending = cellDeltas(change.before, change.after);
+	const pending = cellDeltas(change.before, change.after, change.reamounted);
 	const read = new Set(moved.map((o) => `${o.district_id}|${o.operation_key}`));
 	const missed = pending.operations.filter((o) => !read.has(`${o.district_id}|${o.operation_key}`));
 	const others = [...(await reading), ...(await loadOperationFootprints(db, method.version, missed, change.changed))];
