@@ -484,6 +484,34 @@ class DeltaRuns {
 		a[9] = sign * f.p_high;
 	}
 
+	/**
+	 * Adds the current amounts of a fact to its two finest runs over every FY it counts in and, unless `op` is
+	 * -1, counts it (side 0: before, 1: after) for operation `op` in those runs and their coarser ones.
+	 */
+	addFact(f: CellFact, op: number, side: number): void {
+		const practice = this.practiceOf(f);
+		const county = this.places.of(f.county_fips);
+		const huc = this.places.of(f.huc8 ?? '');
+		for (let b = 0; b < 2; b++) {
+			const span = b === 0 ? f.state : f.federal;
+			for (let c = 0; c < 2; c++) {
+				if (c === 1 && (span.first === null || span.last === null)) continue;
+				const start = (c === 0 ? span.installed : (span.first as number)) - this.lo;
+				const end = (c === 0 ? span.installed : (span.last as number)) - this.lo + 1;
+				const combo = this.combo(f.district_id, b, c);
+				const countyRun = this.countyRun(combo, f, practice, county);
+				const hucRun = this.hucRun(combo, f, practice, huc);
+				this.addSpan(countyRun, start, end);
+				this.addSpan(hucRun, start, end);
+				if (op < 0) continue;
+				this.countOp(countyRun, op, side, start, end);
+				this.countOp(hucRun, op, side, start, end);
+				for (const p of countyRun.parents) this.countOp(p, op, side, start, end);
+				this.countOp(hucRun.parents[0], op, side, start, end);
+			}
+		}
+	}
+
 	/** Adds the current amounts to a run over FY indexes start..end - 1. */
 	addSpan(run: Run, start: number, end: number): void {
 		if (start < run.first) run.first = start;
@@ -677,20 +705,7 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 	// operation enters or leaves any cell).
 	for (const f of reamounted) {
 		w.setAmounts(f, 1, 0);
-		const practice = w.practiceOf(f);
-		const county = w.places.of(f.county_fips);
-		const huc = w.places.of(f.huc8 ?? '');
-		for (let b = 0; b < 2; b++) {
-			const span = b === 0 ? f.state : f.federal;
-			for (let c = 0; c < 2; c++) {
-				if (c === 1 && (span.first === null || span.last === null)) continue;
-				const start = (c === 0 ? span.installed : (span.first as number)) - lo;
-				const end = (c === 0 ? span.installed : (span.last as number)) - lo + 1;
-				const combo = w.combo(f.district_id, b, c);
-				w.addSpan(w.countyRun(combo, f, practice, county), start, end);
-				w.addSpan(w.hucRun(combo, f, practice, huc), start, end);
-			}
-		}
+		w.addFact(f, -1, 0);
 	}
 	// The other facts, one operation at a time.
 	/** Per operation: [run index, FY index, packed counts] of each cell it enters or leaves, flat. */
@@ -702,26 +717,7 @@ export function cellDeltas(before: Iterable<CellFact>, after: Iterable<CellFact>
 			const side = i < beforeCount ? 0 : 1;
 			const sign = side === 0 ? -1 : 1;
 			w.setAmounts(f, sign, sign);
-			const practice = w.practiceOf(f);
-			const county = w.places.of(f.county_fips);
-			const huc = w.places.of(f.huc8 ?? '');
-			for (let b = 0; b < 2; b++) {
-				const span = b === 0 ? f.state : f.federal;
-				for (let c = 0; c < 2; c++) {
-					if (c === 1 && (span.first === null || span.last === null)) continue;
-					const start = (c === 0 ? span.installed : (span.first as number)) - lo;
-					const end = (c === 0 ? span.installed : (span.last as number)) - lo + 1;
-					const combo = w.combo(f.district_id, b, c);
-					const countyRun = w.countyRun(combo, f, practice, county);
-					const hucRun = w.hucRun(combo, f, practice, huc);
-					w.addSpan(countyRun, start, end);
-					w.addSpan(hucRun, start, end);
-					w.countOp(countyRun, op, side, start, end);
-					w.countOp(hucRun, op, side, start, end);
-					for (const p of countyRun.parents) w.countOp(p, op, side, start, end);
-					w.countOp(hucRun.parents[0], op, side, start, end);
-				}
-			}
+			w.addFact(f, op, side);
 		}
 		// This operation is done: keep where it enters or leaves a cell.
 		const flips: number[] = [];
