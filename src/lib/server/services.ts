@@ -1,6 +1,7 @@
 // Background services that run inside the app process: started once by the `init` hook,
 // stopped on adapter-node's `sveltekit:shutdown` event. Each area registers its service here.
 import { batchWorkerService } from './batches/worker';
+import { closeDb } from './db';
 import { logger } from './log';
 import { mailSenderService } from './mail/sender';
 import { rollupService } from './rollups/service';
@@ -17,7 +18,15 @@ const services: Service[] = [
 ];
 let started = false;
 
+let shutdownHooked = false;
+
 export async function startServices(): Promise<void> {
+	// On shutdown, the services stop and then the database pool closes (its idle connections would otherwise
+	// keep the process alive for their idle timeout after the server has stopped listening).
+	if (!shutdownHooked) {
+		shutdownHooked = true;
+		process.once('sveltekit:shutdown' as NodeJS.Signals, () => stopServices().finally(() => closeDb()));
+	}
 	if (started || process.env.RUNNEL_SERVICES === '0') return;
 	started = true;
 	for (const s of services) {
@@ -27,7 +36,6 @@ export async function startServices(): Promise<void> {
 			logger.error({ err: e, service: s.name }, 'service failed to start');
 		}
 	}
-	process.once('sveltekit:shutdown' as NodeJS.Signals, () => void stopServices());
 }
 
 export async function stopServices(): Promise<void> {

@@ -13,6 +13,7 @@ import {
 	DEFAULT_FY_SPAN,
 	type Grouping,
 	type RollupCell,
+	type RollupGroupingResult,
 	type RollupPending,
 	type RollupQuery,
 	type RollupResponse,
@@ -22,8 +23,7 @@ import { activeMethodVersion, loadMethod } from './method-source';
 import { isCurrent, requestRebuild, summaryState } from './refresh';
 import { SETTING_KEYS, smallCellKOf, stateFyStartMonthOf } from './settings';
 
-export type RollupOutcome =
-	{ kind: 'ready'; response: RollupResponse; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
+export type RollupOutcome = { kind: 'ready'; answer: RollupAnswer; method: ReductionMethod } | { kind: 'pending'; pending: RollupPending };
 
 interface Lookups {
 	counties: Map<string, string>;
@@ -50,7 +50,7 @@ async function readContext(db: Kysely<Database>) {
 			(select json_object_agg(key, value) from settings where key = any(${keys}::text[])) as settings,
 			(select json_agg(r) from rollup_refresh r) as states,
 			(select json_agg(json_build_array(fips, name)) from counties
-				where state_fips = coalesce((select lpad(value #>> '{}', 2, '0') from settings where key = ${SETTING_KEYS.hubStateFips}), '19')) as counties,
+				where state_fips = coalesce((select lpad(value #>> '{}', 2, '0') from settings where key = ${SETTING_KEYS.hubStateFips}), '19')::char(2)) as counties,
 			(select json_agg(json_build_array(code, name)) from practices) as practices,
 			(select json_agg(json_build_array(id, code, name, region)) from districts) as districts`.execute(db);
 	const r = rows[0];
@@ -130,6 +130,71 @@ function measures(r: MeasureRow & { fy: unknown }) {
 	};
 }
 
+const orNull = (x: string | number | null) => x ?? 'null';
+
+/**
+ * A cell's FY and measures as JSON text, the numbers written as PostgreSQL printed them (already rounded by
+ * the read) instead of parsed to doubles and printed again: the values of `measures`, in less time.
+ */
+function measuresJson(r: MeasureRow & { fy: unknown }): string {
+	return (
+		`"fy":${Number(r.fy)},"practices":${Number(r.practices)},"operations":${orNull(r.operations)},` +
+		`"credited_acres":${r.credited_acres},"cost_usd":${r.cost_usd},"cost_share_usd":${r.cost_share_usd},` +
+		`"n_lb_yr_mean":${r.n_lb_yr_mean},"n_lb_yr_low":${r.n_lb_yr_low},"n_lb_yr_high":${r.n_lb_yr_high},` +
+		`"p_lb_yr_mean":${r.p_lb_yr_mean},"p_lb_yr_low":${r.p_lb_yr_low},"p_lb_yr_high":${r.p_lb_yr_high},` +
+		`"usd_per_lb_n":${orNull(r.usd_per_lb_n)}`
+	);
+}
+
+type CellRow = MeasureRow & { fy: number } & Record<string, unknown>;
+
+/** One grouping as read from the summary: its rows, and the labels (names, codes) each cell carries. */
+export interface GroupingRows {
+	group: RollupGroupingResult['group'];
+	rows: CellRow[];
+	labels: (r: CellRow) => Partial<RollupCell>;
+	totals: RollupTotal[];
+}
+
+/**
+ * A rollup's answer, kept as the summary rows it was read from until it is asked for: as objects (CSV and
+ * XLSX exports) or as JSON text (the API's JSON, written without making the cell objects first).
+ */
+export class RollupAnswer {
+	constructor(
+		private readonly head: Omit<RollupResponse, 'groupings'>,
+		private readonly groupings: Array<GroupingRows | RollupGroupingResult>
+	) {}
+
+	response(): RollupResponse {
+		const groupings = this.groupings.map((g) =>
+			'rows' in g ? { group: g.group, cells: g.rows.map((r) => ({ ...measures(r), ...g.labels(r) })), totals: g.totals } : g
+		);
+		return { ...this.head, groupings };
+	}
+
+	json(): string {
+		const parts = this.groupings.map((g) => {
+			if (!('rows' in g)) return JSON.stringify(g);
+			// A cell's labels depend only on its keys, which repeat from FY to FY: each is encoded once.
+			const labelsJson = new Map<string, string>();
+			let cells = '';
+			for (const r of g.rows) {
+				const key = `${r.district_id}|${r.geo}|${r.practice_code}`;
+				let labels = labelsJson.get(key);
+				if (labels === undefined) {
+					labels = JSON.stringify(g.labels(r));
+					labels = labels.length > 2 ? `,${labels.slice(1)}` : '}';
+					labelsJson.set(key, labels);
+				}
+				cells += `${cells ? ',' : ''}{${measuresJson(r)}${labels}`;
+			}
+			return `{"group":${JSON.stringify(g.group)},"cells":[${cells}],"totals":${JSON.stringify(g.totals)}}`;
+		});
+		return `${JSON.stringify(this.head).slice(0, -1)},"groupings":[${parts.join(',')}]}`;
+	}
+}
+
 export interface CellSource {
 	methodVersion: string;
 	/** Instead of `methodVersion`: SQL giving the method version (the active one, read in the same statement). */
@@ -166,14 +231,14 @@ function where(src: CellSource, geoLevel: string, byPractice: boolean): RawBuild
 }
 
 /** The SQL a grouping reads (exported so the benchmark can time the bare summary read). */
-export function groupingSql(g: Grouping, src: CellSource): RawBuilder<MeasureRow & { fy: number } & Record<string, unknown>> {
+export function groupingSql(g: Grouping, src: CellSource): RawBuilder<CellRow> {
 	const { geoLevel, byPractice } = sourceLevel(g, src);
 	const keys: RawBuilder<unknown>[] = [sql`fy`];
 	if (g.dims.includes('district')) keys.push(sql`district_id`);
 	if (g.dims.includes('county') || g.dims.includes('huc8')) keys.push(sql`geo`);
 	if (g.dims.includes('practice')) keys.push(sql`practice_code`);
 	const keyList = sql.join(keys);
-	return sql<MeasureRow & { fy: number } & Record<string, unknown>>`
+	return sql<CellRow>`
 		select ${keyList}, ${MEASURES} from rollup_cells where ${where(src, geoLevel, byPractice)}
 		group by ${keyList} order by ${keyList}`;
 }
@@ -321,7 +386,7 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		practice: q.practice
 	};
 	let smallCells: SmallCellCounts | null = null;
-	const groupings: RollupResponse['groupings'] = [];
+	const groupings: Array<GroupingRows | RollupGroupingResult> = [];
 
 	if (researcher) {
 		const r = await researcherCells(db, src, k, names);
@@ -335,50 +400,55 @@ export async function runRollup(db: Kysely<Database>, principal: Principal, q: R
 		const [totalRows, ...perGrouping] = read;
 		const totals = totalRows.rows.map(measures);
 		for (const [gi, g] of q.groupings.entries()) {
-			const rows = perGrouping[gi].rows;
 			const { geoLevel } = sourceLevel(g, src);
-			const cells: RollupCell[] = rows.map((r) => {
-				const cell: RollupCell = measures(r);
-				if (g.dims.includes('district')) {
+			const byDistrict = g.dims.includes('district');
+			const byCounty = g.dims.includes('county') && geoLevel === 'county';
+			const byHuc8 = g.dims.includes('huc8');
+			const byPractice = g.dims.includes('practice');
+			const labels = (r: CellRow): Partial<RollupCell> => {
+				const cell: Partial<RollupCell> = {};
+				if (byDistrict) {
 					const d = names.districts.get(Number(r.district_id));
 					cell.district_id = Number(r.district_id);
 					cell.district_code = d?.code ?? String(r.district_id);
 					cell.district_name = d?.name ?? '';
 				}
-				if (g.dims.includes('county') && geoLevel === 'county') {
+				if (byCounty) {
 					cell.county_fips = String(r.geo);
 					cell.county_name = names.counties.get(String(r.geo)) ?? null;
 				}
-				if (g.dims.includes('huc8')) cell.huc8 = r.geo === '' ? null : String(r.geo);
-				if (g.dims.includes('practice')) {
+				if (byHuc8) cell.huc8 = r.geo === '' ? null : String(r.geo);
+				if (byPractice) {
 					cell.practice_code = String(r.practice_code);
 					cell.practice_name = names.practices.get(String(r.practice_code)) ?? '';
 				}
 				return cell;
-			});
-			groupings.push({ group: g.dims, cells, totals });
+			};
+			groupings.push({ group: g.dims, rows: perGrouping[gi].rows, labels, totals });
 		}
 	}
 
 	return {
 		kind: 'ready',
 		method,
-		response: {
-			method_version: version,
-			fy_basis: q.fy_basis,
-			state_fy_start_month: startMonth,
-			basis: q.basis,
-			fy,
-			filters: {
-				district: districtId === null ? null : (names.districts.get(districtId)?.code ?? String(districtId)),
-				county: q.county,
-				practice: q.practice
+		answer: new RollupAnswer(
+			{
+				method_version: version,
+				fy_basis: q.fy_basis,
+				state_fy_start_month: startMonth,
+				basis: q.basis,
+				fy,
+				filters: {
+					district: districtId === null ? null : (names.districts.get(districtId)?.code ?? String(districtId)),
+					county: q.county,
+					practice: q.practice
+				},
+				refreshed_at: state?.finished_at ? new Date(state.finished_at).toISOString() : null,
+				small_cells: smallCells,
+				notes: notesFor(method, q, startMonth, researcher, k)
 			},
-			refreshed_at: state?.finished_at ? new Date(state.finished_at).toISOString() : null,
-			groupings,
-			small_cells: smallCells,
-			notes: notesFor(method, q, startMonth, researcher, k)
-		}
+			groupings
+		)
 	};
 }
 

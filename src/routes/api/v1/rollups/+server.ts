@@ -19,25 +19,29 @@ export const GET: RequestHandler = async ({ url, locals }) => {
 	const researcher = principal.role === 'researcher';
 	const headers = { 'cache-control': 'private, no-store' };
 	switch (parsed.query.format) {
-		case 'csv':
-			return new Response(csvStream(outcome.response, researcher), {
+		case 'csv': {
+			const response = outcome.answer.response();
+			return new Response(csvStream(response, researcher), {
 				headers: {
 					...headers,
 					'content-type': 'text/csv; charset=utf-8',
-					'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'csv')}"`
+					'content-disposition': `attachment; filename="${exportFileName(response, 'csv')}"`
 				}
 			});
-		case 'xlsx':
-			return new Response(xlsxStream(outcome.response, outcome.method, researcher), {
+		}
+		case 'xlsx': {
+			const response = outcome.answer.response();
+			return new Response(xlsxStream(response, outcome.method, researcher), {
 				headers: {
 					...headers,
 					'content-type': XLSX_TYPE,
-					'content-disposition': `attachment; filename="${exportFileName(outcome.response, 'xlsx')}"`
+					'content-disposition': `attachment; filename="${exportFileName(response, 'xlsx')}"`
 				}
 			});
+		}
 		default: {
 			// Encoded once, with its length (json() would encode the text twice: once to count it).
-			const body = Buffer.from(JSON.stringify(outcome.response), 'utf8');
+			const body = Buffer.from(outcome.answer.json(), 'utf8');
 			return new Response(body, {
 				headers: { ...headers, 'content-type': 'application/json', 'content-length': String(body.byteLength) }
 			});
