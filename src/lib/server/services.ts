@@ -17,7 +17,6 @@ const services: Service[] = [
 	rollupService
 ];
 let started = false;
-
 let shutdownHooked = false;
 
 export async function startServices(): Promise<void> {

@@ -40,7 +40,7 @@ export const GET: RequestHandler = async ({ url, locals }) => {
 			});
 		}
 		default: {
-			// Encoded once, with its length (json() would encode the text twice: once to count it).
+			// Encoded once, with its length (SvelteKit's json() helper would encode the text twice: once to count it).
 			const body = Buffer.from(outcome.answer.json(), 'utf8');
 			return new Response(body, {
 				headers: { ...headers, 'content-type': 'application/json', 'content-length': String(body.byteLength) }
